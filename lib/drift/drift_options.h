@@ -1,0 +1,48 @@
+// Options of the drift detectors. Each detector is evaluated every
+// `evaluate_every_particles` classified particles (event-driven, so replay is
+// deterministic).
+#pragma once
+
+#include <cstddef>
+
+namespace seston {
+
+struct CompositionOptions {
+  std::size_t window_particles = 5000;  // recent window compared with the baseline
+  double alpha = 0.001;                 // significance level of the G-test
+  double warn_jsd = 0.01;               // Jensen–Shannon divergence (bits) for warn
+  double alarm_jsd = 0.03;              // JSD (bits) for alarm (and p < alpha)
+};
+
+struct CentreDriftOptions {
+  double warn_spreads = 0.5;    // centre displacement in units of the cluster's spread
+  double alarm_spreads = 1.0;
+  double common_fraction = 0.6; // this share of centres moving the same way: instrument
+};
+
+struct FitOptions {  // Page–Hinkley on distance to the assigned centre
+  double delta = 0.005;         // tolerated change in mean distance, z units
+  double lambda = 50.0;         // alarm threshold on the cumulative statistic, z units
+  double alpha = 1.0;           // forgetting factor of the cumulative sum, 1 = none
+  std::size_t min_particles = 30;
+};
+
+struct NoveltyRateOptions {
+  std::size_t window_particles = 5000;
+  double alpha = 0.001;         // one-sided binomial test against the baseline rate
+  double warn_ratio = 2.0;      // recent rate / baseline rate
+  double alarm_ratio = 4.0;
+  std::size_t birth_min_particles = 200;  // a tight group this large in the novelty
+                                          // buffer becomes a new cluster
+};
+
+struct DriftOptions {
+  bool enabled = true;
+  std::size_t evaluate_every_particles = 1000;
+  CompositionOptions composition;
+  CentreDriftOptions centre;
+  FitOptions fit;
+  NoveltyRateOptions novelty;
+};
+
+}  // namespace seston
