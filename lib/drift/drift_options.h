@@ -18,6 +18,9 @@ struct CentreDriftOptions {
   double warn_spreads = 0.5;    // centre displacement in units of the cluster's spread
   double alarm_spreads = 1.0;
   double common_fraction = 0.6; // this share of centres moving the same way: instrument
+  // Mean pairwise cosine of the moved centres' displacement vectors above which they are
+  // taken to move "the same way" (default 0.7, i.e. within about 45 degrees; -1..1).
+  double same_direction_cosine = 0.7;
 };
 
 struct FitOptions {  // Page–Hinkley on distance to the assigned centre
@@ -32,6 +35,9 @@ struct NoveltyRateOptions {
   double alpha = 0.001;         // one-sided binomial test against the baseline rate
   double warn_ratio = 2.0;      // recent rate / baseline rate
   double alarm_ratio = 4.0;
+  // A baseline unclassified rate below this is raised to it (default 0.001, a fraction),
+  // so that a spotless warm-up does not make every later stray particle significant.
+  double min_baseline_rate = 0.001;
   std::size_t birth_min_particles = 200;  // a tight group this large in the novelty
                                           // buffer becomes a new cluster
 };
