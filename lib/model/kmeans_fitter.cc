@@ -1,0 +1,196 @@
+#include "model/kmeans_fitter.h"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <numeric>
+#include <string>
+
+#include "model/nearest_centre.h"
+#include "model/portable_random.h"
+
+namespace seston {
+namespace {
+
+std::size_t CountDistinctRows(const RowMatrix& points) {
+  std::vector<Eigen::Index> order(points.rows());
+  std::iota(order.begin(), order.end(), Eigen::Index{0});
+  const auto row_less = [&points](Eigen::Index a, Eigen::Index b) {
+    return std::lexicographical_compare(points.row(a).begin(), points.row(a).end(),
+                                        points.row(b).begin(), points.row(b).end());
+  };
+  std::sort(order.begin(), order.end(), row_less);
+  std::size_t distinct = order.empty() ? 0 : 1;
+  for (std::size_t i = 1; i < order.size(); ++i) {
+    if (points.row(order[i - 1]) != points.row(order[i])) ++distinct;
+  }
+  return distinct;
+}
+
+// Index of a point drawn with probability proportional to its weight, given the running
+// sums of the weights (all ≥ 0, total > 0).
+Eigen::Index DrawProportional(const std::vector<double>& cumulative, PortableRandom& random) {
+  const double target = random.NextUnit() * cumulative.back();
+  auto it = std::upper_bound(cumulative.begin(), cumulative.end(), target);
+  // target can round up to the total; the last point with positive weight is then drawn.
+  if (it == cumulative.end()) {
+    it = std::lower_bound(cumulative.begin(), cumulative.end(), cumulative.back());
+  }
+  return it - cumulative.begin();
+}
+
+RowMatrix SeedKMeansPlusPlus(const RowMatrix& points, int k, PortableRandom& random) {
+  const Eigen::Index n = points.rows();
+  const int trials = 2 + static_cast<int>(std::floor(std::log(static_cast<double>(k))));
+  RowMatrix centres(k, points.cols());
+  centres.row(0) = points.row(static_cast<Eigen::Index>(random.NextBelow(n)));
+  std::vector<double> nearest(n);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    nearest[i] = (points.row(i) - centres.row(0)).squaredNorm();
+  }
+  std::vector<double> cumulative(n);
+  std::vector<double> candidate_nearest(n);
+  std::vector<double> best_nearest(n);
+  for (int c = 1; c < k; ++c) {
+    std::partial_sum(nearest.begin(), nearest.end(), cumulative.begin());
+    double best_potential = std::numeric_limits<double>::infinity();
+    Eigen::Index best_candidate = 0;
+    for (int t = 0; t < trials; ++t) {
+      const Eigen::Index candidate = DrawProportional(cumulative, random);
+      double potential = 0;
+      for (Eigen::Index i = 0; i < n; ++i) {
+        candidate_nearest[i] =
+            std::min(nearest[i], (points.row(i) - points.row(candidate)).squaredNorm());
+        potential += candidate_nearest[i];
+      }
+      if (potential < best_potential) {
+        best_potential = potential;
+        best_candidate = candidate;
+        best_nearest.swap(candidate_nearest);
+      }
+    }
+    centres.row(c) = points.row(best_candidate);
+    nearest.swap(best_nearest);
+  }
+  return centres;
+}
+
+// Moves each empty cluster onto the farthest point of a cluster that keeps ≥ 1 point.
+// Updates sums, counts and labels; a moved point's squared distance is set to -1 so that
+// it is not taken twice.
+void RelocateEmptyClusters(const RowMatrix& points, RowMatrix& sums,
+                           std::vector<std::size_t>& counts, std::vector<int>& labels,
+                           std::vector<double>& squared_distance) {
+  for (std::size_t empty = 0; empty < counts.size(); ++empty) {
+    if (counts[empty] != 0) continue;
+    Eigen::Index farthest = -1;
+    for (Eigen::Index i = 0; i < points.rows(); ++i) {
+      if (counts[labels[i]] < 2 || squared_distance[i] < 0) continue;
+      if (farthest < 0 || squared_distance[i] > squared_distance[farthest]) farthest = i;
+    }
+    if (farthest < 0) continue;  // only when n < k, which FitKMeans rules out
+    sums.row(labels[farthest]) -= points.row(farthest);
+    --counts[labels[farthest]];
+    sums.row(empty) = points.row(farthest);
+    counts[empty] = 1;
+    labels[farthest] = static_cast<int>(empty);
+    squared_distance[farthest] = -1;
+  }
+}
+
+KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iterations) {
+  const int k = static_cast<int>(centres.rows());
+  KMeansFit fit;
+  std::vector<double> squared_distance;
+  AssignNearest(points, centres, &fit.labels, &squared_distance);
+  std::vector<int> next_labels;
+  RowMatrix sums(k, points.cols());
+  std::vector<std::size_t> counts(k);
+  while (fit.iterations < max_iterations) {
+    sums.setZero();
+    std::fill(counts.begin(), counts.end(), 0);
+    for (Eigen::Index i = 0; i < points.rows(); ++i) {
+      sums.row(fit.labels[i]) += points.row(i);
+      ++counts[fit.labels[i]];
+    }
+    RelocateEmptyClusters(points, sums, counts, fit.labels, squared_distance);
+    for (int c = 0; c < k; ++c) centres.row(c) = sums.row(c) / static_cast<double>(counts[c]);
+    ++fit.iterations;
+    AssignNearest(points, centres, &next_labels, &squared_distance);
+    const bool converged = next_labels == fit.labels;
+    fit.labels.swap(next_labels);
+    if (converged) break;
+  }
+  fit.centres = std::move(centres);
+  fit.sizes.assign(k, 0);
+  for (int label : fit.labels) ++fit.sizes[label];
+  fit.sse = std::accumulate(squared_distance.begin(), squared_distance.end(), 0.0);
+  return fit;
+}
+
+}  // namespace
+
+Result<KMeansFit> FitKMeans(const RowMatrix& points, int k, int restarts, int max_iterations,
+                            std::uint64_t seed) {
+  if (points.rows() == 0 || points.cols() == 0) {
+    return Status::InvalidArgument("k-means: no points to fit (got " +
+                                   std::to_string(points.rows()) + " × " +
+                                   std::to_string(points.cols()) + "); need at least k rows");
+  }
+  if (!points.allFinite()) {
+    return Status::InvalidArgument(
+        "k-means: the points contain NaN or infinity; every value must be finite");
+  }
+  if (k < 1) {
+    return Status::InvalidArgument("k-means: k must be at least 1, got " + std::to_string(k));
+  }
+  if (restarts < 1 || max_iterations < 1) {
+    return Status::InvalidArgument("k-means: restarts and max_iterations must be at least 1, got " +
+                                   std::to_string(restarts) + " and " +
+                                   std::to_string(max_iterations));
+  }
+  const std::size_t distinct = CountDistinctRows(points);
+  if (static_cast<std::size_t>(k) > distinct) {
+    return Status::InvalidArgument("k-means: k = " + std::to_string(k) + " exceeds the " +
+                                   std::to_string(distinct) +
+                                   " distinct points; k must be at most that");
+  }
+  PortableRandom restart_seeds(seed);
+  KMeansFit best;
+  for (int r = 0; r < restarts; ++r) {
+    PortableRandom random(restart_seeds.NextRaw());
+    KMeansFit fit = RunLloyd(points, SeedKMeansPlusPlus(points, k, random), max_iterations);
+    if (r == 0 || fit.sse < best.sse) best = std::move(fit);
+  }
+  best.restarts_run = restarts;
+  return best;
+}
+
+Result<KMeansFit> RefineKMeans(const RowMatrix& points, const RowMatrix& initial_centres,
+                               int max_iterations) {
+  if (points.rows() == 0 || initial_centres.rows() == 0 ||
+      points.cols() != initial_centres.cols()) {
+    return Status::InvalidArgument("k-means refinement: need points and centres with the same "
+                                   "number of columns, got " +
+                                   std::to_string(points.cols()) + " and " +
+                                   std::to_string(initial_centres.cols()) + " (rows " +
+                                   std::to_string(points.rows()) + ", " +
+                                   std::to_string(initial_centres.rows()) + ")");
+  }
+  if (!points.allFinite() || !initial_centres.allFinite()) {
+    return Status::InvalidArgument(
+        "k-means refinement: the points or centres contain NaN or infinity; every value must "
+        "be finite");
+  }
+  if (initial_centres.rows() > points.rows() || max_iterations < 1) {
+    return Status::InvalidArgument("k-means refinement: need k <= points and max_iterations >= 1, "
+                                   "got k = " + std::to_string(initial_centres.rows()) +
+                                   ", " + std::to_string(points.rows()) + " points, " +
+                                   std::to_string(max_iterations) + " iterations");
+  }
+  KMeansFit fit = RunLloyd(points, initial_centres, max_iterations);
+  fit.restarts_run = 1;
+  return fit;
+}
+
+}  // namespace seston
