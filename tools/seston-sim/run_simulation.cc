@@ -53,10 +53,6 @@ Status RunSimulation(const CommandLine& command, FileSystem& fs, std::ostream& l
   std::uint64_t produced = 0;
   for (std::uint64_t n = 0; command.samples == 0 || n < command.samples; ++n) {
     SimulatedSample sample = generator.Generate(n);
-    if (change_index && *change_index == n) {
-      if (progress_line) log << "\n";
-      log << "seston-sim: " << generator.ChangeNotice() << "\n";
-    }
     double sample_end = sample.start_seconds + options.acquisition_seconds;
     if (command.live) {
       std::chrono::duration<double> wall_offset((sample_end - options.start_seconds) /
@@ -64,6 +60,10 @@ Status RunSimulation(const CommandLine& command, FileSystem& fs, std::ostream& l
       std::this_thread::sleep_until(
           wall_start +
           std::chrono::duration_cast<std::chrono::steady_clock::duration>(wall_offset));
+    }
+    if (change_index && *change_index == n) {
+      if (progress_line && !command.live) log << "\n";
+      log << "seston-sim: " << generator.ChangeNotice() << "\n";
     }
     if (destination.socket) {
       SESTON_RETURN_IF_ERROR(
