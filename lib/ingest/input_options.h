@@ -17,6 +17,15 @@ struct SocketOptions {
   std::string unix_path;
   std::size_t max_connections = 16;          // concurrent clients
   std::size_t max_queued_records = 65536;    // records waiting for the pipeline
+  // Bytes of record text waiting for the pipeline, all connections together. Default
+  // 64 MiB. With max_queued_records this bounds the queue whatever the line length.
+  std::size_t max_queued_bytes = 64u << 20;
+  // Reply bytes a connection may have waiting to be written. Default 1 MiB. A client
+  // that does not read its replies is disconnected when this is exceeded.
+  std::size_t max_pending_reply_bytes = 1u << 20;
+  // After a client ends its input (half-close), the connection stays open this long
+  // after the last reply, s, so that late answers (commits) still reach it. Default 10.
+  double reply_linger_seconds = 10.0;
 };
 
 struct InputOptions {
@@ -33,6 +42,10 @@ struct InputOptions {
   double rescan_seconds = 30.0;              // periodic rescan, s, always on
   WatchMode watch = WatchMode::kInotify;
   std::string file_suffix = ".csv";          // files taken from drop_dir end with this
+  // Names the drop-directory watcher remembers at once (waiting, ready or being read).
+  // Default 100000. Further files wait in the directory for a later rescan, taken in
+  // name order, so a large backlog costs bounded memory.
+  std::size_t max_tracked_files = 100000;
 
   double max_bad_row_fraction = 0.5;         // more rejected rows than this: quarantine
   std::size_t max_line_bytes = 65536;        // longer lines are rejected
