@@ -12,6 +12,11 @@ struct CountsOptions {
   std::size_t retained_bins = 20160;   // bins kept in memory for queries (14 d of 60 s)
   double bin_close_lag_seconds = 300;  // a bin is written once event time passes its end
                                        // by this much, s
+  std::size_t retained_samples = 2000;  // per-sample summaries kept in memory for queries
+                                        // (the newest ones), count; default 2000, >= 1
+  std::size_t open_count_files = 64;    // count files the writer keeps track of at once
+                                        // (least recently written forgotten first; a
+                                        // forgotten file is simply looked up again), >= 2
 };
 
 }  // namespace seston
