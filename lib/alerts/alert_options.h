@@ -1,6 +1,7 @@
 // Options of the alert policy and the alert outputs.
 #pragma once
 
+#include <cstddef>
 #include <string>
 
 namespace seston {
