@@ -2,9 +2,8 @@
 
 #include <yaml-cpp/yaml.h>
 
-#include <boost/asio/ip/address.hpp>
-
 #include <algorithm>
+#include <boost/asio/ip/address.hpp>
 #include <charconv>
 #include <cmath>
 #include <cstdint>
@@ -17,6 +16,7 @@
 #include <utility>
 
 #include "config/option_names.h"
+#include "config/value_text.h"
 
 namespace seston {
 namespace {
@@ -36,16 +36,13 @@ Place PlaceOf(const YAML::Mark& mark) {
   return {mark.line + 1, mark.column + 1};
 }
 
-// JSON string quoting, so that control characters and quotes in a value stay readable.
-std::string Quote(std::string_view text) { return nlohmann::json(std::string(text)).dump(); }
-
 // What a node holds, for the "got ..." part of a message.
 std::string Found(const YAML::Node& node) {
   switch (node.Type()) {
     case YAML::NodeType::Null:
       return "nothing";
     case YAML::NodeType::Scalar:
-      return Quote(node.Scalar());
+      return QuotedText(node.Scalar());
     case YAML::NodeType::Sequence:
       return "a list";
     case YAML::NodeType::Map:
@@ -110,13 +107,6 @@ std::vector<std::string> SplitWords(const std::string& joined) {
   return words;
 }
 
-// Shortest text that reads back as the same double ("0", "0.995", "86400").
-std::string NumberText(double value) {
-  char buffer[32];
-  const auto result = std::to_chars(buffer, buffer + sizeof buffer, value);
-  return std::string(buffer, result.ptr);
-}
-
 // Accepted values of a real-valued option.
 struct Bounds {
   double min = -std::numeric_limits<double>::infinity();
@@ -135,7 +125,8 @@ struct Bounds {
     const std::string low = (min_open ? "greater than " : "at least ") + NumberText(min);
     const std::string high = (max_open ? "less than " : "at most ") + NumberText(max);
     if (std::isinf(max)) return "a number " + low;
-    if (!min_open && !max_open) return "a number from " + NumberText(min) + " to " + NumberText(max);
+    if (!min_open && !max_open)
+      return "a number from " + NumberText(min) + " to " + NumberText(max);
     return "a number " + low + " and " + high;
   }
 };
@@ -190,7 +181,7 @@ std::optional<std::string> AddressFault(std::string_view text) {
   if (colon == std::string_view::npos) return "it has no :PORT";
   const std::string_view host = text.substr(0, colon);
   const std::string_view port = text.substr(colon + 1);
-  if (host.empty()) return "it has no host";
+  if (host.empty()) return std::nullopt;  // ":7460" is 127.0.0.1 to ingest and api alike
   const bool bracketed = host.front() == '[';
   if (bracketed && (host.size() < 3 || host.back() != ']')) {
     return "an IPv6 host must be closed with ]";
@@ -311,9 +302,9 @@ void Reader::ReadMapping(const YAML::Node& node, const std::string& path, Place 
   if (node.IsNull()) return;  // an empty section keeps every default
   if (!node.IsMap()) {
     const std::string what = path.empty() ? "The config" : path;
-    Problem(place, path,
-            what + " must be a mapping with the keys " + Join(accepted, ", ") + ", got " +
-                Found(node));
+    Problem(
+        place, path,
+        what + " must be a mapping with the keys " + Join(accepted, ", ") + ", got " + Found(node));
     return;
   }
   std::map<std::string, int> first_line;
@@ -427,8 +418,8 @@ void Reader::Address(const Entry& entry, bool allow_empty, std::string& out) {
   }
   if (const std::optional<std::string> fault = AddressFault(text)) {
     Expected(entry,
-             std::string("HOST:PORT with an IP address and a port from 1 to 65535, e.g. \"127.0.0.1:7460\" or "
-                         "\"[::1]:7460\"") +
+             std::string("HOST:PORT with an IP address (or none, for 127.0.0.1) and a port from "
+                         "1 to 65535, e.g. \"127.0.0.1:7460\", \"[::1]:7460\" or \":7460\"") +
                  (allow_empty ? ", or \"\" for off" : ""),
              *fault);
     return;
@@ -461,8 +452,9 @@ void Reader::ModelK(const Entry& entry, ModelOptions& model) {
 }
 
 void Reader::KRange(const Entry& entry, ModelOptions& model) {
-  const std::string accepted = "a list of two integers [k_min, k_max] with 1 <= k_min < k_max <= " +
-                               std::to_string(kMaxK) + ", e.g. [2, 12]";
+  const std::string accepted =
+      "a list of two integers [k_min, k_max] with 1 <= k_min < k_max <= " + std::to_string(kMaxK) +
+      ", e.g. [2, 12]";
   if (!entry.value.IsSequence() || entry.value.size() != 2) {
     Expected(entry, accepted);
     return;
@@ -481,7 +473,8 @@ void Reader::KRange(const Entry& entry, ModelOptions& model) {
 }
 
 void Reader::Features(const Entry& entry, FeatureOptions& features) {
-  const std::string example = "[ { column: area_um2, transform: log10 }, { column: aspect_ratio } ]";
+  const std::string example =
+      "[ { column: area_um2, transform: log10 }, { column: aspect_ratio } ]";
   if (!entry.value.IsSequence()) {
     Expected(entry, "a list of features like " + example);
     return;
@@ -556,6 +549,9 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"unix_path", text(socket.unix_path, true)},
       {"max_connections", size(socket.max_connections, 1)},
       {"max_queued_records", size(socket.max_queued_records, 1)},
+      {"max_queued_bytes", size(socket.max_queued_bytes, 1)},
+      {"max_pending_reply_bytes", size(socket.max_pending_reply_bytes, 1)},
+      {"reply_linger_seconds", number(socket.reply_linger_seconds, AtLeast(0))},
   };
   const Rules input_rules = {
       {"time_column", text(in.time_column, false)},
@@ -570,6 +566,7 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"rescan_seconds", number(in.rescan_seconds, Above(0))},
       {"watch", [&](const Entry& e) { Word(e, &WatchModeFromWord, WatchModeWords(), in.watch); }},
       {"file_suffix", text(in.file_suffix, true)},
+      {"max_tracked_files", size(in.max_tracked_files, 1)},
       {"max_bad_row_fraction", number(in.max_bad_row_fraction, FromTo(0, 1))},
       {"max_line_bytes", size(in.max_line_bytes, 1)},
       {"max_file_bytes",
@@ -599,6 +596,8 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"output_dir", text(counts.output_dir, false)},
       {"retained_bins", size(counts.retained_bins, 1)},
       {"bin_close_lag_seconds", number(counts.bin_close_lag_seconds, AtLeast(0))},
+      {"retained_samples", size(counts.retained_samples, 1)},
+      {"open_count_files", size(counts.open_count_files, 2)},
   };
   const Rules composition_rules = {
       {"window_particles", size(drift.composition.window_particles, 1)},
@@ -647,6 +646,10 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"dir", text(state.dir, false)},
       {"checkpoint_seconds", number(state.checkpoint_seconds, Above(0))},
       {"start_fresh_if_unreadable", boolean(state.start_fresh_if_unreadable)},
+      {"max_checkpoint_bytes",
+       [&](const Entry& e) {
+         Integer<std::uint64_t>(e, 1, kAnyCount, state.max_checkpoint_bytes);
+       }},
   };
   const Rules api_rules = {
       {"listen", [&](const Entry& e) { Address(e, false, api.listen); }},
@@ -717,13 +720,14 @@ void Reader::CheckAcrossKeys(const Config& config) {
     const auto [seen, inserted] = first_use.emplace(column, i);
     if (!inserted) {
       const std::string first = "features[" + std::to_string(seen->second) + "]";
-      ProblemAtKey(key, key + " repeats " + Quote(column) + ", already used by " + first +
+      ProblemAtKey(key, key + " repeats " + QuotedText(column) + ", already used by " + first +
                             " on line " + std::to_string(PlaceOfKey(first).line) +
                             "; each column may be a feature once");
     }
     for (const auto& [reserved_key, reserved_column] : reserved) {
       if (!reserved_column.empty() && column == reserved_column) {
-        ProblemAtKey(key, key + " " + Quote(column) + " is the column named by " + reserved_key +
+        ProblemAtKey(key, key + " " + QuotedText(column) + " is the column named by " +
+                              reserved_key +
                               "; a feature must be a measured column, not the time, sample or "
                               "volume column");
       }
@@ -733,10 +737,10 @@ void Reader::CheckAcrossKeys(const Config& config) {
   const int needed = model.k == 0 ? model.k_max : model.k;
   if (model.warmup_particles < static_cast<std::size_t>(needed)) {
     const std::string what = model.k == 0 ? "the largest k in model.k_range" : "model.k";
-    ProblemAtKey("model.warmup_particles",
-                 "model.warmup_particles must be at least " + what + " (" +
-                     std::to_string(needed) + ") so that every cluster can be seeded, got " +
-                     std::to_string(model.warmup_particles));
+    ProblemAtKey("model.warmup_particles", "model.warmup_particles must be at least " + what +
+                                               " (" + std::to_string(needed) +
+                                               ") so that every cluster can be seeded, got " +
+                                               std::to_string(model.warmup_particles));
   }
   if (drift.composition.warn_jsd > drift.composition.alarm_jsd) {
     ProblemAtKey("drift.composition.warn_jsd",
@@ -745,24 +749,23 @@ void Reader::CheckAcrossKeys(const Config& config) {
                      NumberText(drift.composition.alarm_jsd) + ")");
   }
   if (drift.centre.warn_spreads > drift.centre.alarm_spreads) {
-    ProblemAtKey("drift.centre.warn_spreads",
-                 "drift.centre.warn_spreads (" + NumberText(drift.centre.warn_spreads) +
-                     ") must not exceed drift.centre.alarm_spreads (" +
-                     NumberText(drift.centre.alarm_spreads) + ")");
+    ProblemAtKey("drift.centre.warn_spreads", "drift.centre.warn_spreads (" +
+                                                  NumberText(drift.centre.warn_spreads) +
+                                                  ") must not exceed drift.centre.alarm_spreads (" +
+                                                  NumberText(drift.centre.alarm_spreads) + ")");
   }
   if (drift.novelty.warn_ratio > drift.novelty.alarm_ratio) {
-    ProblemAtKey("drift.novelty.warn_ratio",
-                 "drift.novelty.warn_ratio (" + NumberText(drift.novelty.warn_ratio) +
-                     ") must not exceed drift.novelty.alarm_ratio (" +
-                     NumberText(drift.novelty.alarm_ratio) + ")");
+    ProblemAtKey("drift.novelty.warn_ratio", "drift.novelty.warn_ratio (" +
+                                                 NumberText(drift.novelty.warn_ratio) +
+                                                 ") must not exceed drift.novelty.alarm_ratio (" +
+                                                 NumberText(drift.novelty.alarm_ratio) + ")");
   }
   if (drift.novelty.birth_min_particles > model.novelty_buffer) {
-    ProblemAtKey("drift.novelty.birth_min_particles",
-                 "drift.novelty.birth_min_particles (" +
-                     std::to_string(drift.novelty.birth_min_particles) +
-                     ") must not exceed model.novelty_buffer (" +
-                     std::to_string(model.novelty_buffer) +
-                     "): a new group must fit in the novelty buffer");
+    ProblemAtKey(
+        "drift.novelty.birth_min_particles",
+        "drift.novelty.birth_min_particles (" + std::to_string(drift.novelty.birth_min_particles) +
+            ") must not exceed model.novelty_buffer (" + std::to_string(model.novelty_buffer) +
+            "): a new group must fit in the novelty buffer");
   }
 
   const std::vector<std::pair<std::string, std::string>> directories = {
@@ -773,23 +776,23 @@ void Reader::CheckAcrossKeys(const Config& config) {
     for (std::size_t j = i + 1; j < directories.size(); ++j) {
       if (directories[i].second == directories[j].second) {
         ProblemAtKey(directories[j].first, directories[j].first + " and " + directories[i].first +
-                                               " are the same directory (" +
-                                               directories[j].second + "); they must differ");
+                                               " are the same directory (" + directories[j].second +
+                                               "); they must differ");
       }
     }
   }
   if (!in.socket.listen.empty() && in.socket.listen == config.api.listen) {
     ProblemAtKey("input.socket.listen", "input.socket.listen and api.listen are both " +
-                                            Quote(in.socket.listen) +
+                                            QuotedText(in.socket.listen) +
                                             "; the record socket needs its own port");
   }
 }
 
 std::filesystem::path BaseDirectoryOf(const std::string& source_name) {
   std::error_code error;
-  const std::filesystem::path absolute =
-      source_name.empty() ? std::filesystem::current_path(error)
-                          : std::filesystem::absolute(source_name, error);
+  const std::filesystem::path absolute = source_name.empty()
+                                             ? std::filesystem::current_path(error)
+                                             : std::filesystem::absolute(source_name, error);
   return source_name.empty() ? absolute : absolute.parent_path();
 }
 

@@ -1,21 +1,12 @@
 #include "config/config_summary.h"
 
-#include <charconv>
 #include <sstream>
 
 #include "config/option_names.h"
+#include "config/value_text.h"
 
 namespace seston {
 namespace {
-
-// Shortest text that reads back as the same double ("0", "0.995", "86400").
-std::string Number(double value) {
-  char buffer[32];
-  const auto result = std::to_chars(buffer, buffer + sizeof buffer, value);
-  return std::string(buffer, result.ptr);
-}
-
-std::string Quoted(const std::string& text) { return nlohmann::json(text).dump(); }
 
 std::string FeatureText(const FeatureSpec& spec) {
   if (spec.transform == Transform::kNone) return spec.column;
@@ -29,28 +20,27 @@ std::string DescribeConfig(const Config& config) {
   const ModelOptions& model = config.model;
   const DriftOptions& drift = config.drift;
   std::ostringstream out;
-  out << "station " << Quoted(config.station) << ", read from " << config.source_path << "\n";
+  out << "station " << QuotedText(config.station) << ", read from " << config.source_path << "\n";
 
-  out << "input: files ending " << Quoted(in.file_suffix) << " in " << in.drop_dir << " ("
-      << WatchModeWord(in.watch) << ", rescan every " << Number(in.rescan_seconds)
-      << " s, taken after " << Number(in.settle_seconds) << " s unchanged)\n";
+  out << "input: files ending " << QuotedText(in.file_suffix) << " in " << in.drop_dir << " ("
+      << WatchModeWord(in.watch) << ", rescan every " << NumberText(in.rescan_seconds)
+      << " s, taken after " << NumberText(in.settle_seconds) << " s unchanged)\n";
   out << "  done files to " << in.done_dir << ", rejected files to " << in.quarantine_dir
-      << " (more than " << Number(in.max_bad_row_fraction * 100) << " % bad rows, lines over "
+      << " (more than " << NumberText(in.max_bad_row_fraction * 100) << " % bad rows, lines over "
       << in.max_line_bytes << " bytes rejected, files over " << in.max_file_bytes << " bytes)\n";
-  out << "  columns: time " << Quoted(in.time_column) << ", sample "
-      << (in.sample_column.empty() ? "(each file is one sample)" : Quoted(in.sample_column))
-      << ", volume "
-      << (in.volume_column.empty() ? "(none)" : Quoted(in.volume_column)) << " (else "
-      << Number(in.default_volume_ml) << " mL per sample), delimiter " << Quoted({in.delimiter})
-      << "\n";
+  out << "  columns: time " << QuotedText(in.time_column) << ", sample "
+      << (in.sample_column.empty() ? "(each file is one sample)" : QuotedText(in.sample_column))
+      << ", volume " << (in.volume_column.empty() ? "(none)" : QuotedText(in.volume_column))
+      << " (else " << NumberText(in.default_volume_ml) << " mL per sample), delimiter "
+      << QuotedText(std::string(1, in.delimiter)) << "\n";
   out << "  record socket: ";
   if (in.socket.listen.empty() && in.socket.unix_path.empty()) {
     out << "off\n";
   } else {
     if (!in.socket.listen.empty()) out << "tcp " << in.socket.listen << " ";
     if (!in.socket.unix_path.empty()) out << "unix " << in.socket.unix_path << " ";
-    out << "(at most " << in.socket.max_connections << " clients, "
-        << in.socket.max_queued_records << " queued records)\n";
+    out << "(at most " << in.socket.max_connections << " clients, " << in.socket.max_queued_records
+        << " queued records)\n";
   }
 
   out << "features (" << config.features.features.size() << "): ";
@@ -73,44 +63,45 @@ std::string DescribeConfig(const Config& config) {
   out << "  mini-batches of " << model.batch_size << "; forgetting: ";
   if (model.half_life_particles == 0 && model.half_life_seconds == 0) out << "never";
   if (model.half_life_particles > 0) {
-    out << "half-life " << Number(model.half_life_particles) << " particles";
+    out << "half-life " << NumberText(model.half_life_particles) << " particles";
   }
   if (model.half_life_seconds > 0) {
     out << (model.half_life_particles > 0 ? " and " : "") << "half-life "
-        << Number(model.half_life_seconds) << " s";
+        << NumberText(model.half_life_seconds) << " s";
   }
   out << "\n  novelty: ";
   if (model.novelty_quantile >= 1.0) {
     out << "off";
   } else {
-    out << "beyond the " << Number(model.novelty_quantile * 100)
+    out << "beyond the " << NumberText(model.novelty_quantile * 100)
         << " % distance quantile, buffer of " << model.novelty_buffer << " particles";
   }
   out << "\n";
 
-  out << "counts: bins of " << Number(config.counts.bin_seconds) << " s written to "
-      << config.counts.output_dir << " after a lag of " << Number(config.counts.bin_close_lag_seconds)
-      << " s, " << config.counts.retained_bins << " bins kept for queries\n";
+  out << "counts: bins of " << NumberText(config.counts.bin_seconds) << " s written to "
+      << config.counts.output_dir << " after a lag of "
+      << NumberText(config.counts.bin_close_lag_seconds) << " s, " << config.counts.retained_bins
+      << " bins kept for queries\n";
 
   out << "drift: ";
   if (!drift.enabled) {
     out << "off\n";
   } else {
     out << "evaluated every " << drift.evaluate_every_particles
-        << " particles; composition alarm at JSD " << Number(drift.composition.alarm_jsd)
-        << " bits over " << drift.composition.window_particles
-        << " particles; centre alarm at " << Number(drift.centre.alarm_spreads)
-        << " spreads; fit alarm at Page-Hinkley " << Number(drift.fit.lambda)
-        << "; novelty alarm at " << Number(drift.novelty.alarm_ratio) << "x the baseline rate\n";
+        << " particles; composition alarm at JSD " << NumberText(drift.composition.alarm_jsd)
+        << " bits over " << drift.composition.window_particles << " particles; centre alarm at "
+        << NumberText(drift.centre.alarm_spreads) << " spreads; fit alarm at Page-Hinkley "
+        << NumberText(drift.fit.lambda) << "; novelty alarm at "
+        << NumberText(drift.novelty.alarm_ratio) << "x the baseline rate\n";
   }
 
   const AlertOptions& alerts = config.alerts;
   out << "alerts: " << alerts.dir << " (raise after " << alerts.raise_after << ", resolve after "
-      << alerts.resolve_after << " evaluations, cool-down " << Number(alerts.cooldown_seconds)
-      << " s); hook: "
-      << (alerts.hook_command.empty() ? "none" : Quoted(alerts.hook_command)) << "\n";
+      << alerts.resolve_after << " evaluations, cool-down " << NumberText(alerts.cooldown_seconds)
+      << " s); hook: " << (alerts.hook_command.empty() ? "none" : QuotedText(alerts.hook_command))
+      << "\n";
   out << "state: " << config.state.dir << " (checkpoint at least every "
-      << Number(config.state.checkpoint_seconds) << " s; "
+      << NumberText(config.state.checkpoint_seconds) << " s; "
       << (config.state.start_fresh_if_unreadable ? "starts fresh" : "refuses to start")
       << " if no checkpoint is readable)\n";
   out << "api: http on " << config.api.listen << ", writes "
@@ -144,6 +135,7 @@ nlohmann::json ConfigToJson(const Config& config) {
         {"rescan_seconds", in.rescan_seconds},
         {"watch", WatchModeWord(in.watch)},
         {"file_suffix", in.file_suffix},
+        {"max_tracked_files", in.max_tracked_files},
         {"max_bad_row_fraction", in.max_bad_row_fraction},
         {"max_line_bytes", in.max_line_bytes},
         {"max_file_bytes", in.max_file_bytes},
@@ -151,7 +143,10 @@ nlohmann::json ConfigToJson(const Config& config) {
          {{"listen", in.socket.listen},
           {"unix_path", in.socket.unix_path},
           {"max_connections", in.socket.max_connections},
-          {"max_queued_records", in.socket.max_queued_records}}}}},
+          {"max_queued_records", in.socket.max_queued_records},
+          {"max_queued_bytes", in.socket.max_queued_bytes},
+          {"max_pending_reply_bytes", in.socket.max_pending_reply_bytes},
+          {"reply_linger_seconds", in.socket.reply_linger_seconds}}}}},
       {"features", features},
       {"standardize", config.features.standardize},
       {"model",
@@ -172,7 +167,9 @@ nlohmann::json ConfigToJson(const Config& config) {
        {{"bin_seconds", config.counts.bin_seconds},
         {"output_dir", config.counts.output_dir},
         {"retained_bins", config.counts.retained_bins},
-        {"bin_close_lag_seconds", config.counts.bin_close_lag_seconds}}},
+        {"bin_close_lag_seconds", config.counts.bin_close_lag_seconds},
+        {"retained_samples", config.counts.retained_samples},
+        {"open_count_files", config.counts.open_count_files}}},
       {"drift",
        {{"enabled", drift.enabled},
         {"evaluate_every_particles", drift.evaluate_every_particles},
@@ -209,7 +206,8 @@ nlohmann::json ConfigToJson(const Config& config) {
       {"state",
        {{"dir", config.state.dir},
         {"checkpoint_seconds", config.state.checkpoint_seconds},
-        {"start_fresh_if_unreadable", config.state.start_fresh_if_unreadable}}},
+        {"start_fresh_if_unreadable", config.state.start_fresh_if_unreadable},
+        {"max_checkpoint_bytes", config.state.max_checkpoint_bytes}}},
       {"api",
        {{"listen", config.api.listen},
         {"token_file", config.api.token_file},

@@ -26,8 +26,7 @@ constexpr WordTable<KSelectionRule, 2> kKSelectionRuleWords{{
     {KSelectionRule::kSilhouette, "silhouette"},
 }};
 
-constexpr std::array<std::string_view, 5> kLogLevelWords{"trace", "debug", "info", "warn",
-                                                         "error"};
+constexpr std::array<std::string_view, 5> kLogLevelWords{"trace", "debug", "info", "warn", "error"};
 
 template <typename E, std::size_t N>
 std::string_view WordOf(const WordTable<E, N>& table, E value) {

@@ -19,9 +19,7 @@ std::filesystem::path ExampleConfigDirectory() {
   return std::filesystem::path(SESTON_TEST_DATA_DIR).parent_path().parent_path() / "config";
 }
 
-std::vector<ConfigProblem> Check(std::string_view yaml) {
-  return CheckConfig(yaml, "config.yaml");
-}
+std::vector<ConfigProblem> Check(std::string_view yaml) { return CheckConfig(yaml, "config.yaml"); }
 
 std::string AllText(const std::vector<ConfigProblem>& problems) {
   std::string text;
@@ -56,6 +54,7 @@ input:
   rescan_seconds: 45
   watch: poll
   file_suffix: .txt
+  max_tracked_files: 50
   max_bad_row_fraction: 0.25
   max_line_bytes: 4096
   max_file_bytes: 5000000000
@@ -64,6 +63,9 @@ input:
     unix_path: /run/seston/records.sock
     max_connections: 4
     max_queued_records: 1000
+    max_queued_bytes: 100000
+    max_pending_reply_bytes: 5000
+    reply_linger_seconds: 0.5
 features:
   - { column: area_um2, transform: log10 }
   - { column: aspect_ratio }
@@ -89,6 +91,8 @@ counts:
   output_dir: /data/counts
   retained_bins: 100
   bin_close_lag_seconds: 0
+  retained_samples: 10
+  open_count_files: 2
 drift:
   enabled: false
   evaluate_every_particles: 250
@@ -110,6 +114,7 @@ state:
   dir: /data/state
   checkpoint_seconds: 15
   start_fresh_if_unreadable: true
+  max_checkpoint_bytes: 1000000
 api:
   listen: "[::1]:8080"
   token_file: /etc/seston/token
@@ -146,6 +151,10 @@ TEST(ConfigLoader, EveryKeyReachesItsField) {
   EXPECT_EQ(c.input.socket.unix_path, "/run/seston/records.sock");
   EXPECT_EQ(c.input.socket.max_connections, 4u);
   EXPECT_EQ(c.input.socket.max_queued_records, 1000u);
+  EXPECT_EQ(c.input.socket.max_queued_bytes, 100000u);
+  EXPECT_EQ(c.input.socket.max_pending_reply_bytes, 5000u);
+  EXPECT_DOUBLE_EQ(c.input.socket.reply_linger_seconds, 0.5);
+  EXPECT_EQ(c.input.max_tracked_files, 50u);
 
   ASSERT_EQ(c.features.features.size(), 4u);
   EXPECT_EQ(c.features.features[0].column, "area_um2");
@@ -177,6 +186,8 @@ TEST(ConfigLoader, EveryKeyReachesItsField) {
   EXPECT_EQ(c.counts.output_dir, "/data/counts");
   EXPECT_EQ(c.counts.retained_bins, 100u);
   EXPECT_DOUBLE_EQ(c.counts.bin_close_lag_seconds, 0);
+  EXPECT_EQ(c.counts.retained_samples, 10u);
+  EXPECT_EQ(c.counts.open_count_files, 2u);
 
   EXPECT_FALSE(c.drift.enabled);
   EXPECT_EQ(c.drift.evaluate_every_particles, 250u);
@@ -210,6 +221,7 @@ TEST(ConfigLoader, EveryKeyReachesItsField) {
   EXPECT_EQ(c.state.dir, "/data/state");
   EXPECT_DOUBLE_EQ(c.state.checkpoint_seconds, 15);
   EXPECT_TRUE(c.state.start_fresh_if_unreadable);
+  EXPECT_EQ(c.state.max_checkpoint_bytes, 1000000u);
 
   EXPECT_EQ(c.api.listen, "[::1]:8080");
   EXPECT_EQ(c.api.token_file, "/etc/seston/token");
@@ -370,8 +382,9 @@ TEST(ConfigLoader, WrongShapesAreErrors) {
   EXPECT_EQ(OnlyProblemAbout(problems, "standardize").ToString(),
             "config.yaml:2: standardize must be true or false, got \"yes\"");
   EXPECT_EQ(OnlyProblemAbout(problems, "model").line, 3);
-  EXPECT_NE(OnlyProblemAbout(problems, "model").message.find("model must be a mapping with the "
-                                                             "keys k, k_range"),
+  EXPECT_NE(OnlyProblemAbout(problems, "model")
+                .message.find("model must be a mapping with the "
+                              "keys k, k_range"),
             std::string::npos);
   EXPECT_EQ(OnlyProblemAbout(problems, "alerts.dir").ToString(),
             "config.yaml:5: alerts.dir must be a non-empty text value, got a list");
@@ -410,8 +423,7 @@ TEST(ConfigLoader, FeatureMustNotBeTheTimeSampleOrVolumeColumn) {
       "  - { column: ml }\n");
   const ConfigProblem problem = OnlyProblemAbout(problems, "features[1].column");
   EXPECT_EQ(problem.line, 4);
-  EXPECT_NE(problem.message.find("is the column named by input.volume_column"),
-            std::string::npos)
+  EXPECT_NE(problem.message.find("is the column named by input.volume_column"), std::string::npos)
       << problem.message;
 }
 
@@ -458,20 +470,20 @@ TEST(ConfigLoader, BadListenAddressesAreErrors) {
   EXPECT_NE(port.message.find("the port must be a number from 1 to 65535"), std::string::npos)
       << port.message;
 
-  for (const char* bad : {"127.0.0.1", "::1:7460", ":7460", "127.0.0.1:0", "[127.0.0.1]:80",
-                          "10.0.0.1:+80"}) {
+  for (const char* bad : {"127.0.0.1", "::1:7460", "localhost:7460", "127.0.0.1:0",
+                          "[127.0.0.1]:80", "10.0.0.1:+80"}) {
     const auto one = Check(std::string(kOneFeature) + "api: { listen: \"" + bad + "\" }\n");
     EXPECT_EQ(OnlyProblemAbout(one, "api.listen").line, 2) << bad;
   }
-  for (const char* good : {"0.0.0.0:1", "[::]:65535", "192.0.2.7:7460"}) {
+  for (const char* good : {"0.0.0.0:1", "[::]:65535", "192.0.2.7:7460", ":7470"}) {
     EXPECT_TRUE(Check(std::string(kOneFeature) + "api: { listen: \"" + good + "\" }\n").empty())
         << good;
   }
 }
 
 TEST(ConfigLoader, SameListenAddressForApiAndSocketIsAnError) {
-  const auto problems = Check(std::string(kOneFeature) +
-                              "input: { socket: { listen: \"127.0.0.1:7460\" } }\n");
+  const auto problems =
+      Check(std::string(kOneFeature) + "input: { socket: { listen: \"127.0.0.1:7460\" } }\n");
   EXPECT_EQ(OnlyProblemAbout(problems, "input.socket.listen").line, 2);
 }
 
@@ -658,9 +670,10 @@ TEST(ExampleConfigs, FullExampleNamesEveryKeyAtItsDefault) {
   // And every value it states is the true default: the same file with only station and
   // features, in the same directory, gives the same Config.
   Config defaults;
-  const std::string minimal = "station: \"Skerry Sound mooring B\"\n" + std::string(
-      "features:\n  - { column: area_um2, transform: log10 }\n"
-      "  - { column: aspect_ratio, transform: none }\n");
+  const std::string minimal = "station: \"Skerry Sound mooring B\"\n" +
+                              std::string(
+                                  "features:\n  - { column: area_um2, transform: log10 }\n"
+                                  "  - { column: aspect_ratio, transform: none }\n");
   ASSERT_TRUE(CheckConfig(minimal, std::filesystem::absolute(file).string(), &defaults).empty());
   EXPECT_EQ(ConfigToJson(*example).dump(2), ConfigToJson(defaults).dump(2));
 }
