@@ -32,9 +32,10 @@
 // Snapshots. Snapshot() returns an immutable CountBookSnapshot for other threads. Bins
 // live in shared chunks of 256 consecutive bin indices; a snapshot copies only the
 // chunk pointers and sample pointers, and the book copies a chunk (copy on write) the
-// first time it changes one a snapshot still holds. Measured on the build machine with
-// 20160 bins x 10 clusters and 2000 samples: Snapshot() about 10 us, against about
-// 2 ms for a deep copy of all bins and samples.
+// first time it changes one a snapshot still holds. Measured on the build machine (-O2)
+// with 20160 bins x 10 clusters and 2000 samples: Snapshot() about 45 us, a snapshot
+// followed by an addition (one chunk copied) about 70 us, against about 90 ms for a deep
+// copy of all bins and samples. ToJson of that book dumps to about 1.8 MB.
 //
 // Thread safety: the book is owned by one thread (the pipeline's). Snapshots may be
 // read on any thread.

@@ -99,7 +99,9 @@ class CountFileWriter {
   Status WriteBins(const std::vector<BinCounts>& bins);
 
   CountFileOffsets Offsets() const;
-  // See the header comment. Also forgets which files it was using. Fails (kCorruption)
+  // See the header comment. Also forgets which files it was using, so Offsets() lists only
+  // the journal until the next write (any file touched later is journaled first, so this
+  // loses nothing). Fails (kCorruption)
   // when the journal is shorter than recorded or holds a line it cannot read, and
   // (kInvalidArgument) when offsets name something other than a count file.
   Status RestoreTo(const CountFileOffsets& offsets);
