@@ -10,66 +10,18 @@
 #include <thread>
 
 #include "api/http_client.h"
-#include "fake_backend.h"
+#include "server_harness.h"
 
 namespace seston {
 namespace {
+
+using testing::Harness;
+using testing::kHarnessToken;
 
 namespace beast = boost::beast;
 namespace net = boost::asio;
 using tcp = net::ip::tcp;
 using Seconds = std::chrono::duration<double>;
-
-constexpr char kToken[] = "token-for-server-tests";
-
-// A server on 127.0.0.1 with a free port, its io_context run by two threads.
-class Harness {
- public:
-  explicit Harness(ApiOptions options) {
-    options.listen = "127.0.0.1:0";
-    auto server = HttpServer::Create(io_context_, options, backend, kToken);
-    EXPECT_TRUE(server.ok()) << server.status().ToString();
-    server_ = std::move(*server);
-    server_->Start();
-    for (auto& thread : threads_) thread = std::thread([this] { io_context_.run(); });
-  }
-
-  ~Harness() {
-    if (!stopped_) {
-      EXPECT_TRUE(StopAndWait());
-    }
-  }
-
-  // Stops the server; true when every handler finished within 5 s (no session left).
-  bool StopAndWait() {
-    stopped_ = true;
-    server_->Stop();
-    auto done = std::async(std::launch::async, [this] {
-      for (auto& thread : threads_) thread.join();
-    });
-    if (done.wait_for(std::chrono::seconds(5)) == std::future_status::ready) return true;
-    io_context_.stop();
-    done.wait();
-    return false;
-  }
-
-  std::uint16_t port() const { return server_->port(); }
-  std::string address() const { return "127.0.0.1:" + std::to_string(port()); }
-
-  std::unique_ptr<HttpClient> Client() {
-    auto client = HttpClient::Connect(address(), 5);
-    EXPECT_TRUE(client.ok()) << client.status().ToString();
-    return client.ok() ? std::move(*client) : nullptr;
-  }
-
-  testing::FakeBackend backend;
-
- private:
-  net::io_context io_context_;
-  std::unique_ptr<HttpServer> server_;
-  std::thread threads_[2];
-  bool stopped_ = false;
-};
 
 ApiOptions ShortTimeouts() {
   ApiOptions options;
@@ -135,7 +87,7 @@ TEST(HttpServer, WritesCarryTheBearerTokenThroughTheSocket) {
   EXPECT_EQ(refused->status, 401);
   EXPECT_EQ(refused->Header("WWW-Authenticate"), "Bearer realm=\"sestond\"");
   Result<HttpReply> accepted =
-      client->Send("PUT", "/v1/clusters/7/label", R"({"label":"ciliates"})", kToken);
+      client->Send("PUT", "/v1/clusters/7/label", R"({"label":"ciliates"})", kHarnessToken);
   ASSERT_TRUE(accepted.ok());
   EXPECT_EQ(accepted->status, 200) << accepted->body;
   std::lock_guard lock(harness.backend.mutex);
@@ -157,7 +109,7 @@ TEST(HttpServer, OneMegabyteBodyIsRefusedWith413AndClosed) {
   auto client = harness.Client();
   ASSERT_NE(client, nullptr);
   std::string body = R"({"label":")" + std::string(1 << 20, 'a') + R"("})";
-  Result<HttpReply> reply = client->Send("PUT", "/v1/clusters/1/label", body, kToken);
+  Result<HttpReply> reply = client->Send("PUT", "/v1/clusters/1/label", body, kHarnessToken);
   ASSERT_TRUE(reply.ok()) << reply.status().ToString();
   EXPECT_EQ(reply->status, 413);
   EXPECT_FALSE(reply->keep_alive);
