@@ -22,8 +22,8 @@ namespace seston {
 struct ClusterMatch {
   // Per new centre (row of new_centres): the old id it keeps, or 0 for a birth.
   std::vector<std::uint32_t> kept_id;
-  std::vector<int> births;               // rows of new_centres with no old id, ascending
-  std::vector<std::uint32_t> retired;    // old ids with no new centre, in old order
+  std::vector<int> births;             // rows of new_centres with no old id, ascending
+  std::vector<std::uint32_t> retired;  // old ids with no new centre, in old order
 };
 
 // old_ids[i] names row i of old_centres. Errors (InvalidArgument): old_ids and

@@ -97,17 +97,19 @@ int ChooseBySilhouette(const std::vector<KScore>& scores) {
 
 const char* KSelectionRuleName(KSelectionRule rule) {
   switch (rule) {
-    case KSelectionRule::kElbow: return "elbow";
-    case KSelectionRule::kSilhouette: return "silhouette";
+    case KSelectionRule::kElbow:
+      return "elbow";
+    case KSelectionRule::kSilhouette:
+      return "silhouette";
   }
   return "unknown";
 }
 
 Result<KSelection> SelectK(const RowMatrix& points, const ModelOptions& options) {
   if (options.k_min < 1 || options.k_max < options.k_min) {
-    return Status::InvalidArgument("k selection: need 1 <= k_min <= k_max, got k_min = " +
-                                   std::to_string(options.k_min) +
-                                   ", k_max = " + std::to_string(options.k_max));
+    return Status::InvalidArgument(
+        "k selection: need 1 <= k_min <= k_max, got k_min = " + std::to_string(options.k_min) +
+        ", k_max = " + std::to_string(options.k_max));
   }
   if (options.silhouette_sample < 2) {
     return Status::InvalidArgument("k selection: silhouette_sample must be at least 2, got " +

@@ -44,7 +44,7 @@ struct KScore {
 
 struct KSelection {
   int chosen_k = 0;
-  std::string rule;  // "elbow" or "silhouette"
+  std::string rule;            // "elbow" or "silhouette"
   std::vector<KScore> scores;  // one per k, k_min..k_max in order
 };
 

@@ -170,12 +170,12 @@ Result<KMeansFit> RefineKMeans(const RowMatrix& points, const RowMatrix& initial
                                int max_iterations) {
   if (points.rows() == 0 || initial_centres.rows() == 0 ||
       points.cols() != initial_centres.cols()) {
-    return Status::InvalidArgument("k-means refinement: need points and centres with the same "
-                                   "number of columns, got " +
-                                   std::to_string(points.cols()) + " and " +
-                                   std::to_string(initial_centres.cols()) + " (rows " +
-                                   std::to_string(points.rows()) + ", " +
-                                   std::to_string(initial_centres.rows()) + ")");
+    return Status::InvalidArgument(
+        "k-means refinement: need points and centres with the same "
+        "number of columns, got " +
+        std::to_string(points.cols()) + " and " + std::to_string(initial_centres.cols()) +
+        " (rows " + std::to_string(points.rows()) + ", " + std::to_string(initial_centres.rows()) +
+        ")");
   }
   if (!points.allFinite() || !initial_centres.allFinite()) {
     return Status::InvalidArgument(
@@ -183,10 +183,11 @@ Result<KMeansFit> RefineKMeans(const RowMatrix& points, const RowMatrix& initial
         "be finite");
   }
   if (initial_centres.rows() > points.rows() || max_iterations < 1) {
-    return Status::InvalidArgument("k-means refinement: need k <= points and max_iterations >= 1, "
-                                   "got k = " + std::to_string(initial_centres.rows()) +
-                                   ", " + std::to_string(points.rows()) + " points, " +
-                                   std::to_string(max_iterations) + " iterations");
+    return Status::InvalidArgument(
+        "k-means refinement: need k <= points and max_iterations >= 1, "
+        "got k = " +
+        std::to_string(initial_centres.rows()) + ", " + std::to_string(points.rows()) +
+        " points, " + std::to_string(max_iterations) + " iterations");
   }
   KMeansFit fit = RunLloyd(points, initial_centres, max_iterations);
   fit.restarts_run = 1;

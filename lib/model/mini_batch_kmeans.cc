@@ -29,8 +29,10 @@ Status CheckOptions(const ModelOptions& options) {
   const auto fail = [](const std::string& what) {
     return Status::InvalidArgument("model options: " + what);
   };
-  if (options.k < 0) return fail("k must be 0 (auto) or at least 1, got " + std::to_string(options.k));
-  if (options.restarts < 1) return fail("restarts must be at least 1, got " + std::to_string(options.restarts));
+  if (options.k < 0)
+    return fail("k must be 0 (auto) or at least 1, got " + std::to_string(options.k));
+  if (options.restarts < 1)
+    return fail("restarts must be at least 1, got " + std::to_string(options.restarts));
   if (options.max_iterations < 1) {
     return fail("max_iterations must be at least 1, got " + std::to_string(options.max_iterations));
   }
@@ -71,8 +73,9 @@ Eigen::VectorXd VectorFromJson(const nlohmann::json& json) {
 // increasing id order: ids are issued in order and clusters are only appended.
 template <typename Clusters>
 auto* FindById(Clusters& clusters, std::uint32_t id) {
-  auto it = std::lower_bound(clusters.begin(), clusters.end(), id,
-                             [](const auto& cluster, std::uint32_t key) { return cluster.id < key; });
+  auto it =
+      std::lower_bound(clusters.begin(), clusters.end(), id,
+                       [](const auto& cluster, std::uint32_t key) { return cluster.id < key; });
   return it != clusters.end() && it->id == id ? &*it : nullptr;
 }
 
@@ -117,6 +120,38 @@ Result<MiniBatchKMeans> MiniBatchKMeans::Create(const ModelOptions& options,
   return model;
 }
 
+void MiniBatchKMeans::AssignToActive(const RowMatrix& points, const std::vector<Cluster*>& active,
+                                     std::vector<int>* nearest,
+                                     std::vector<double>* squared_distance) const {
+  if (active.empty()) return;
+  RowMatrix centres(static_cast<Eigen::Index>(active.size()), dims_);
+  for (std::size_t c = 0; c < active.size(); ++c) {
+    centres.row(static_cast<Eigen::Index>(c)) = active[c]->centre.transpose();
+  }
+  AssignNearest(points, centres, nearest, squared_distance);
+}
+
+void MiniBatchKMeans::Classify(const RowMatrix& points, std::vector<std::uint32_t>* ids,
+                               std::vector<double>* distances) const {
+  assert(points.cols() == dims_);
+  const Eigen::Index rows = points.rows();
+  ids->assign(rows, 0);
+  distances->assign(rows, kInfinity);
+  std::vector<const Cluster*> active;
+  for (const Cluster& cluster : clusters_) {
+    if (!cluster.retired) active.push_back(&cluster);
+  }
+  std::vector<int> nearest;
+  std::vector<double> squared_distance;
+  AssignToActive(points, active, &nearest, &squared_distance);
+  for (Eigen::Index i = 0; i < rows && !active.empty(); ++i) {
+    const Cluster& cluster = *active[nearest[i]];
+    const double distance = std::sqrt(squared_distance[i]);
+    (*distances)[i] = distance;
+    if (distance <= cluster.novelty_threshold) (*ids)[i] = cluster.id;
+  }
+}
+
 void MiniBatchKMeans::ProcessBatch(const RowMatrix& points, double batch_first_seconds,
                                    double batch_last_seconds, std::vector<std::uint32_t>* ids,
                                    std::vector<double>* distances,
@@ -144,13 +179,7 @@ void MiniBatchKMeans::ProcessBatch(const RowMatrix& points, double batch_first_s
 
   std::vector<int> nearest;
   std::vector<double> squared_distance;
-  if (!active.empty()) {
-    RowMatrix centres(static_cast<Eigen::Index>(active.size()), dims_);
-    for (std::size_t c = 0; c < active.size(); ++c) {
-      centres.row(static_cast<Eigen::Index>(c)) = active[c]->centre.transpose();
-    }
-    AssignNearest(points, centres, &nearest, &squared_distance);
-  }
+  AssignToActive(points, {active.begin(), active.end()}, &nearest, &squared_distance);
   for (Eigen::Index i = 0; i < rows; ++i) {
     if (!active.empty()) {
       Cluster& cluster = *active[nearest[i]];
@@ -311,9 +340,9 @@ Result<MiniBatchKMeans> MiniBatchKMeans::FromJson(const nlohmann::json& json) {
       restored.chosen_k = selection.at("chosen_k").get<int>();
       restored.rule = selection.at("rule").get<std::string>();
       for (const nlohmann::json& score : selection.at("scores")) {
-        restored.scores.push_back({score.at("k").get<int>(), score.at("sse").get<double>(),
-                                   NumberOr(score.at("silhouette"),
-                                            std::numeric_limits<double>::quiet_NaN())});
+        restored.scores.push_back(
+            {score.at("k").get<int>(), score.at("sse").get<double>(),
+             NumberOr(score.at("silhouette"), std::numeric_limits<double>::quiet_NaN())});
       }
       model.k_selection_ = std::move(restored);
     }

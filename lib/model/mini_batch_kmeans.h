@@ -31,14 +31,13 @@
 // copy or a snapshot made on that strand (the class is a copyable value).
 #pragma once
 
+#include <Eigen/Dense>
 #include <cstdint>
 #include <deque>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <span>
 #include <vector>
-
-#include <Eigen/Dense>
-#include <nlohmann/json.hpp>
 
 #include "base/matrix.h"
 #include "base/status.h"
@@ -51,14 +50,14 @@ class MiniBatchKMeans {
  public:
   struct Cluster {
     std::uint32_t id = 0;
-    Eigen::VectorXd centre;         // z units
-    double weight = 0;              // n_c, decayed particle count
-    double novelty_threshold = 0;   // distance (not squared), z; +infinity: no novelty
-    double spread = 0;              // RMS distance of warm-up members to the centre, z
-    std::uint64_t assigned = 0;     // particles classified into it since birth
-    double born_seconds = 0;        // event s
+    Eigen::VectorXd centre;        // z units
+    double weight = 0;             // n_c, decayed particle count
+    double novelty_threshold = 0;  // distance (not squared), z; +infinity: no novelty
+    double spread = 0;             // RMS distance of warm-up members to the centre, z
+    std::uint64_t assigned = 0;    // particles classified into it since birth
+    double born_seconds = 0;       // event s
     bool retired = false;
-    double retired_seconds = 0;     // event s; meaningful only when retired
+    double retired_seconds = 0;  // event s; meaningful only when retired
   };
 
   struct NoveltyPoint {
@@ -71,8 +70,7 @@ class MiniBatchKMeans {
   // from warmup_end_seconds. Errors (InvalidArgument): options out of range (k < 0,
   // restarts or max_iterations < 1, negative or non-finite half-lives, novelty_quantile
   // outside (0, 1], novelty_buffer 0) and every error of FitKMeans / SelectK.
-  static Result<MiniBatchKMeans> Create(const ModelOptions& options,
-                                        const RowMatrix& warmup_points,
+  static Result<MiniBatchKMeans> Create(const ModelOptions& options, const RowMatrix& warmup_points,
                                         double warmup_end_seconds);
 
   // Classifies and learns one batch (rows × dims(), z units) spanning event times
@@ -81,11 +79,16 @@ class MiniBatchKMeans {
   // cluster is active) per row. row_seconds, if not empty, gives each row's event time
   // for the novelty buffer (else every row gets batch_first_seconds). Precondition:
   // points.cols() == dims(), row_seconds empty or of points.rows() entries.
-  void ProcessBatch(const RowMatrix& points, double batch_first_seconds,
-                    double batch_last_seconds, std::vector<std::uint32_t>* ids,
-                    std::vector<double>* distances, std::span<const double> row_seconds = {});
+  void ProcessBatch(const RowMatrix& points, double batch_first_seconds, double batch_last_seconds,
+                    std::vector<std::uint32_t>* ids, std::vector<double>* distances,
+                    std::span<const double> row_seconds = {});
 
   // Active and retired clusters, in order of id.
+  // Nearest active centre and novelty test as in ProcessBatch, without decay, update or
+  // novelty buffer: for particles that already shaped the fit (the warm-up sample).
+  void Classify(const RowMatrix& points, std::vector<std::uint32_t>* ids,
+                std::vector<double>* distances) const;
+
   const std::vector<Cluster>& clusters() const { return clusters_; }
   const Cluster* FindCluster(std::uint32_t id) const;
   int active_count() const;
@@ -95,8 +98,8 @@ class MiniBatchKMeans {
   const std::optional<KSelection>& k_selection() const { return k_selection_; }
 
   // Adds an active cluster and returns its new id. Precondition: centre.size() == dims().
-  std::uint32_t AddCluster(const Eigen::VectorXd& centre, double weight,
-                           double novelty_threshold, double spread, double born_seconds);
+  std::uint32_t AddCluster(const Eigen::VectorXd& centre, double weight, double novelty_threshold,
+                           double spread, double born_seconds);
   // Retires an active cluster. Errors: NotFound (no such id), FailedPrecondition
   // (already retired).
   Status RetireCluster(std::uint32_t id, double seconds);
@@ -115,6 +118,8 @@ class MiniBatchKMeans {
 
  private:
   MiniBatchKMeans() = default;
+  void AssignToActive(const RowMatrix& points, const std::vector<const Cluster*>& active,
+                      std::vector<int>* nearest, std::vector<double>* squared_distance) const;
 
   int dims_ = 0;
   double half_life_particles_ = 0;

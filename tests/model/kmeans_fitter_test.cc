@@ -14,8 +14,7 @@ namespace {
 // Reference values: Fisher 1936 iris as shipped with scikit-learn 1.2.1 (tests/data/iris.csv);
 // SSE, sizes, centroids and ARI from scikit-learn 1.2.1 KMeans(algorithm="lloyd",
 // n_init=50, random_state=0) confirmed by a deeper search; see tests/data/README.md.
-constexpr double kIrisSse[] = {681.3706, 152.347952, 78.851441, 57.228473, 46.446182,
-                               39.039987};
+constexpr double kIrisSse[] = {681.3706, 152.347952, 78.851441, 57.228473, 46.446182, 39.039987};
 constexpr double kIrisSseK7 = 34.298230;
 
 class IrisFit : public ::testing::Test {
@@ -42,7 +41,8 @@ TEST_F(IrisFit, RawKThreeMatchesScikitLearnSseSizesCentroidsAndAri) {
             [&](int a, int b) { return fit->centres(a, 0) < fit->centres(b, 0); });
   for (int c = 0; c < 3; ++c) {
     for (int t = 0; t < 4; ++t) {
-      EXPECT_NEAR(fit->centres(order[c], t), expected[c][t], 1e-5) << "centre " << c << " feature " << t;
+      EXPECT_NEAR(fit->centres(order[c], t), expected[c][t], 1e-5)
+          << "centre " << c << " feature " << t;
     }
   }
   // Adjusted Rand index against species: 0.730238, scikit-learn 1.2.1.

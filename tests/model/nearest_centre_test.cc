@@ -48,8 +48,7 @@ void ExpectMatchesReference(NearestCentreMethod method, int n, int d, int k, std
   EXPECT_EQ(near_ties, 0);
 }
 
-class AssignNearestAgainstReference
-    : public ::testing::TestWithParam<std::tuple<int, int, int>> {};
+class AssignNearestAgainstReference : public ::testing::TestWithParam<std::tuple<int, int, int>> {};
 
 TEST_P(AssignNearestAgainstReference, LoopMatchesReference) {
   const auto [n, d, k] = GetParam();
