@@ -1,5 +1,8 @@
-// Minimum-cost assignment (the Hungarian algorithm of Kuhn 1955, in Munkres' form with
-// row and column potentials and shortest augmenting paths, O(r² c) for r ≤ c).
+// Minimum-cost assignment: the Hungarian algorithm (Kuhn 1955; Munkres 1957), in the form
+// that keeps row and column potentials and adds one row at a time along a shortest
+// augmenting path, O(r² c) for r ≤ c. Hand-written because neither Eigen nor Boost 1.74
+// (whose graph matchings maximise cardinality or weight on general graphs) offers a
+// rectangular minimum-cost assignment.
 //
 // Used to keep cluster identity across refits (cluster_matcher.h). Costs are in whatever
 // unit the caller uses (z for centre distances) and must be finite.

@@ -19,6 +19,10 @@
 //  - Restarts: `restarts` independent seedings, each from its own generator whose seed is
 //    the next raw output of mt19937_64(seed); the lowest SSE wins (ties: the earliest).
 //
+// Hand-written rather than taken from a library: the model's identity and replay
+// guarantees need this exact seeding, tie-breaking, empty-cluster rule and portable random
+// stream, and none of the project's Debian libraries (Eigen, Boost) provides k-means.
+//
 // Thread safety: a pure function; call from any thread.
 #pragma once
 

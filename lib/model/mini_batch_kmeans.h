@@ -78,7 +78,8 @@ class MiniBatchKMeans {
   // distance (z, to the nearest active centre at the batch start; +infinity when no
   // cluster is active) per row. row_seconds, if not empty, gives each row's event time
   // for the novelty buffer (else every row gets batch_first_seconds). Precondition:
-  // points.cols() == dims(), row_seconds empty or of points.rows() entries.
+  // points.cols() == dims(), all values finite (the features stage rejects others), row_seconds
+  // empty or of points.rows() entries.
   void ProcessBatch(const RowMatrix& points, double batch_first_seconds, double batch_last_seconds,
                     std::vector<std::uint32_t>* ids, std::vector<double>* distances,
                     std::span<const double> row_seconds = {});
