@@ -34,8 +34,9 @@ BinChunk& OwnedChunk(std::shared_ptr<BinChunk>& chunk) {
 }
 
 void AddClusterCount(std::vector<ClusterCount>& clusters, std::uint32_t id, std::uint64_t count) {
-  auto it = std::lower_bound(clusters.begin(), clusters.end(), id,
-                             [](const ClusterCount& c, std::uint32_t v) { return c.cluster_id < v; });
+  auto it =
+      std::lower_bound(clusters.begin(), clusters.end(), id,
+                       [](const ClusterCount& c, std::uint32_t v) { return c.cluster_id < v; });
   if (it != clusters.end() && it->cluster_id == id) {
     it->count += count;
   } else {
@@ -53,8 +54,7 @@ void AddBin(BinCounts& into, const BinCounts& add) {
 }
 
 bool IsEmpty(const BinCounts& bin) {
-  return bin.clusters.empty() && bin.unclassified == 0 && bin.rejected == 0 &&
-         bin.volume_ml == 0;
+  return bin.clusters.empty() && bin.unclassified == 0 && bin.rejected == 0 && bin.volume_ml == 0;
 }
 
 std::map<std::uint32_t, std::uint64_t> WithoutZeros(
@@ -75,7 +75,8 @@ nlohmann::json CountsToJson(const std::map<std::uint32_t, std::uint64_t>& counts
 
 std::map<std::uint32_t, std::uint64_t> CountsFromJson(const nlohmann::json& in) {
   std::map<std::uint32_t, std::uint64_t> counts;
-  for (const auto& pair : in) counts[pair.at(0).get<std::uint32_t>()] = pair.at(1).get<std::uint64_t>();
+  for (const auto& pair : in)
+    counts[pair.at(0).get<std::uint32_t>()] = pair.at(1).get<std::uint64_t>();
   return counts;
 }
 
@@ -112,14 +113,10 @@ nlohmann::json SampleToJson(const SampleTally& sample) {
   for (const auto& [start, tally] : sample.by_bin) {
     by_bin.push_back({start, tally.rejected, CountsToJson(tally.by_cluster)});
   }
-  return {{"sample_id", sample.sample_id},
-          {"source", sample.source},
-          {"first_seconds", sample.first_seconds},
-          {"last_seconds", sample.last_seconds},
-          {"volume_ml", sample.volume_ml},
-          {"by_cluster", CountsToJson(sample.by_cluster)},
-          {"rejected", sample.rejected},
-          {"by_bin", std::move(by_bin)}};
+  return {{"sample_id", sample.sample_id},         {"source", sample.source},
+          {"first_seconds", sample.first_seconds}, {"last_seconds", sample.last_seconds},
+          {"volume_ml", sample.volume_ml},         {"by_cluster", CountsToJson(sample.by_cluster)},
+          {"rejected", sample.rejected},           {"by_bin", std::move(by_bin)}};
 }
 
 SampleTally SampleFromJson(const nlohmann::json& in) {
@@ -147,8 +144,9 @@ std::string Describe(const SampleTally& sample) {
 
 Result<CountBook> CountBook::Create(const CountsOptions& options) {
   if (!std::isfinite(options.bin_seconds) || !(options.bin_seconds > 0)) {
-    return Status::InvalidArgument("counts.bin_seconds must be a finite number of seconds > 0, got " +
-                                   std::to_string(options.bin_seconds));
+    return Status::InvalidArgument(
+        "counts.bin_seconds must be a finite number of seconds > 0, got " +
+        std::to_string(options.bin_seconds));
   }
   if (!std::isfinite(options.bin_close_lag_seconds) || options.bin_close_lag_seconds < 0) {
     return Status::InvalidArgument(
@@ -223,8 +221,8 @@ Status CountBook::AddSample(const SampleTally& sample) {
   } else {
     for (auto& [index, contribution] : contributions) {
       // Multiply first: 3 mL * 20 / 30 is exactly 2, 3 mL * (20 / 30) is not.
-      contribution.volume_ml =
-          sample.volume_ml * static_cast<double>(contribution.accepted()) / static_cast<double>(accepted);
+      contribution.volume_ml = sample.volume_ml * static_cast<double>(contribution.accepted()) /
+                               static_cast<double>(accepted);
     }
   }
   if (sample.rejected > bins_rejected) {
@@ -311,9 +309,9 @@ nlohmann::json CountBook::ToJson() const {
   for (const auto& sample : current_.samples_) samples.push_back(SampleToJson(*sample));
   nlohmann::json latest = nullptr;
   if (!std::isnan(current_.latest_event_seconds_)) latest = current_.latest_event_seconds_;
-  return {{"format", kFormat},   {"bin_seconds", bin_seconds},
-          {"latest_event_seconds", latest}, {"bins", std::move(bins)},
-          {"pending", std::move(pending)},  {"samples", std::move(samples)}};
+  return {
+      {"format", kFormat},       {"bin_seconds", bin_seconds},    {"latest_event_seconds", latest},
+      {"bins", std::move(bins)}, {"pending", std::move(pending)}, {"samples", std::move(samples)}};
 }
 
 Result<CountBook> CountBook::FromJson(const nlohmann::json& state, const CountsOptions& options) {
@@ -326,8 +324,9 @@ Result<CountBook> CountBook::FromJson(const nlohmann::json& state, const CountsO
     const double saved_bin_seconds = state.at("bin_seconds").get<double>();
     if (saved_bin_seconds != options.bin_seconds) {
       return Status::FailedPrecondition(
-          "counts state was made with counts.bin_seconds = " + nlohmann::json(saved_bin_seconds).dump() +
-          ", the configuration now says " + nlohmann::json(options.bin_seconds).dump() +
+          "counts state was made with counts.bin_seconds = " +
+          nlohmann::json(saved_bin_seconds).dump() + ", the configuration now says " +
+          nlohmann::json(options.bin_seconds).dump() +
           "; bins cannot be re-cut: restore with the old value or start with fresh state");
     }
     for (const auto& entry : state.at("bins")) {

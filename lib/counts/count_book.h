@@ -44,9 +44,8 @@
 #include <cstdint>
 #include <map>
 #include <memory>
-#include <vector>
-
 #include <nlohmann/json.hpp>
+#include <vector>
 
 #include "base/status.h"
 #include "counts/count_book_snapshot.h"

@@ -31,7 +31,8 @@ CountsWindow CountBookSnapshot::Query(double from_seconds, double to_seconds) co
     if (window.bins == 0) window.from_seconds = bin.start_seconds;
     window.to_seconds = bin.start_seconds + bin_seconds_;
     ++window.bins;
-    for (const ClusterCount& cluster : bin.clusters) by_cluster[cluster.cluster_id] += cluster.count;
+    for (const ClusterCount& cluster : bin.clusters)
+      by_cluster[cluster.cluster_id] += cluster.count;
     window.unclassified += bin.unclassified;
     window.rejected += bin.rejected;
     window.total += bin.accepted();

@@ -456,7 +456,8 @@ Status CountFileWriter::RestoreTo(const CountFileOffsets& offsets) {
       std::size_t space = line.rfind(' ');
       name = line.substr(7, space - 7);
       std::uint64_t value = 0;
-      auto [ptr, error] = std::from_chars(line.data() + space + 1, line.data() + line.size(), value);
+      auto [ptr, error] =
+          std::from_chars(line.data() + space + 1, line.data() + line.size(), value);
       if (error == std::errc() && ptr == line.data() + line.size()) bytes = value;
     }
     if (!IsCountFileName(name) || name == journal_name ||

@@ -55,12 +55,11 @@
 #include <cstdint>
 #include <filesystem>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "base/file_system.h"
 #include "base/status.h"
@@ -142,10 +141,10 @@ class CountFileWriter {
   FileSystem* fs_;
   CountsOptions options_;
   std::filesystem::path directory_;
-  std::vector<std::uint32_t> living_;      // ascending
-  std::map<std::string, Series> series_;   // by "<kind>_<day>"
+  std::vector<std::uint32_t> living_;     // ascending
+  std::map<std::string, Series> series_;  // by "<kind>_<day>"
   std::uint64_t use_counter_ = 0;
-  std::uint64_t journal_bytes_ = 0;        // committed journal size
+  std::uint64_t journal_bytes_ = 0;  // committed journal size
   bool journal_needs_cut_ = false;
   bool journal_exists_ = false;
 };

@@ -27,12 +27,12 @@ struct BinTally {
 // One complete sample, tallied by the pipeline and handed to the counts stage at once.
 struct SampleTally {
   std::string sample_id;
-  std::string source;          // where it came from (input file name), for people
-  double first_seconds = 0;    // event time of the sample's first particle, s
-  double last_seconds = 0;     // event time of its last particle, s (>= first_seconds)
-  double volume_ml = 0;        // water analysed for the whole sample, mL (>= 0)
+  std::string source;        // where it came from (input file name), for people
+  double first_seconds = 0;  // event time of the sample's first particle, s
+  double last_seconds = 0;   // event time of its last particle, s (>= first_seconds)
+  double volume_ml = 0;      // water analysed for the whole sample, mL (>= 0)
   std::map<std::uint32_t, std::uint64_t> by_cluster;  // accepted particles; 0 = unclassified
-  std::uint64_t rejected = 0;  // rejected rows of the sample
+  std::uint64_t rejected = 0;                         // rejected rows of the sample
   // The same particles split by time bin, keyed by bin start (any time inside the bin is
   // accepted as key and re-binned). For every cluster id the bins must add up to
   // by_cluster; their rejected may add up to less than `rejected` (rows whose time was
@@ -52,9 +52,9 @@ struct BinCounts {
   std::vector<ClusterCount> clusters;  // ascending id, ids >= 1, every count > 0
   std::uint64_t unclassified = 0;
   std::uint64_t rejected = 0;
-  double volume_ml = 0;                // volume attributed to the bin, mL (see CountBook)
+  double volume_ml = 0;  // volume attributed to the bin, mL (see CountBook)
 
-  std::uint64_t accepted() const;      // sum of clusters + unclassified
+  std::uint64_t accepted() const;  // sum of clusters + unclassified
   bool operator==(const BinCounts&) const = default;
 };
 
@@ -70,12 +70,12 @@ struct CountsWindow {
   double from_seconds = std::numeric_limits<double>::quiet_NaN();  // start of the first
                                                                    // bin found; NaN: none
   double to_seconds = std::numeric_limits<double>::quiet_NaN();    // end of the last bin found
-  std::uint64_t bins = 0;                    // bins found in the window
+  std::uint64_t bins = 0;                                          // bins found in the window
   std::vector<ClusterWindowCount> clusters;  // ascending id, clusters with count > 0
   std::uint64_t unclassified = 0;
   double unclassified_per_ml = std::numeric_limits<double>::quiet_NaN();
   std::uint64_t rejected = 0;
-  std::uint64_t total = 0;                   // accepted particles (clusters + unclassified)
+  std::uint64_t total = 0;  // accepted particles (clusters + unclassified)
   double total_per_ml = std::numeric_limits<double>::quiet_NaN();
   double volume_ml = 0;
 };

@@ -1,9 +1,8 @@
 #include "state/checkpoint_store.h"
 
+#include <boost/crc.hpp>
 #include <charconv>
 #include <cstdio>
-
-#include <boost/crc.hpp>
 
 namespace seston {
 namespace {
@@ -11,8 +10,7 @@ namespace {
 constexpr std::string_view kMagic = "seston-checkpoint";
 constexpr std::string_view kVersion = "v1";
 constexpr std::size_t kMaxHeaderBytes = 128;
-constexpr std::string_view kHeaderShape =
-    "\"seston-checkpoint v1 crc32=<8 hex digits> bytes=<n>\"";
+constexpr std::string_view kHeaderShape = "\"seston-checkpoint v1 crc32=<8 hex digits> bytes=<n>\"";
 
 std::uint32_t Crc32(std::string_view data) {
   boost::crc_32_type crc;
@@ -108,8 +106,7 @@ Result<nlohmann::json> CheckpointStore::Read(const std::filesystem::path& path) 
   try {
     return nlohmann::json::parse(*payload);
   } catch (const nlohmann::json::exception& error) {
-    return Status::Corruption(std::string("has a payload that is not valid JSON: ") +
-                              error.what());
+    return Status::Corruption(std::string("has a payload that is not valid JSON: ") + error.what());
   }
 }
 

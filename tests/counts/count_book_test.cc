@@ -47,9 +47,9 @@ TEST(CountBook, ConcentrationIsParticlesCountedOverVolumeAnalysed) {
   // Common practice (shared/reference/README.md, facts of the trade): concentration of a
   // class = particles counted / volume of water analysed, per mL.
   CountBook book = MakeBook(Options());
-  ASSERT_TRUE(book.AddSample(OneBinSample("skerry-b-0001", kDay + 5, 3.0,
-                                          {{1, 150}, {2, 30}, {0, 6}}))
-                  .ok());
+  ASSERT_TRUE(
+      book.AddSample(OneBinSample("skerry-b-0001", kDay + 5, 3.0, {{1, 150}, {2, 30}, {0, 6}}))
+          .ok());
   CountsWindow window = book.Query(kDay, kDay + 60);
   EXPECT_EQ(window.bins, 1u);
   EXPECT_EQ(window.volume_ml, 3.0);
@@ -80,7 +80,7 @@ TEST(CountBook, SampleSpanningTwoBinsSplitsVolumeByParticleShare) {
   EXPECT_EQ(bins[0].volume_ml, 2.0);  // 3 mL * 20 / 30
   EXPECT_EQ(bins[1].volume_ml, 1.0);  // 3 mL * 10 / 30
   // A bin's concentration is its particles over its volume share ...
-  EXPECT_EQ(Find(book.Query(kDay, kDay + 60), 1)->concentration_per_ml, 7.5);        // 15 / 2
+  EXPECT_EQ(Find(book.Query(kDay, kDay + 60), 1)->concentration_per_ml, 7.5);         // 15 / 2
   EXPECT_EQ(Find(book.Query(kDay + 60, kDay + 120), 1)->concentration_per_ml, 10.0);  // 10 / 1
   // ... and over both bins it is the sample's own: 25 / 3.
   CountsWindow both = book.Query(kDay, kDay + 120);
@@ -159,7 +159,7 @@ TEST(CountBook, KeepsAtMostRetainedBinsDroppingTheOldest) {
   }
   EXPECT_EQ(book.bin_count(), 5u);
   CountsWindow all = book.Query(0, 1e10);
-  EXPECT_EQ(all.from_seconds, kDay + 60 * 3);    // bins 0, 1, 2 dropped
+  EXPECT_EQ(all.from_seconds, kDay + 60 * 3);  // bins 0, 1, 2 dropped
   EXPECT_EQ(all.total, 4u + 5 + 6 + 7 + 8);
   ASSERT_EQ(book.samples().size(), 3u);
   EXPECT_EQ(book.samples().front()->sample_id, "s5");

@@ -101,8 +101,8 @@ TEST(CountFileWriter, WritesTheHeaderOncePerFileWithUnitsInEveryColumnName) {
   EXPECT_EQ(lines[1].rfind("bin_start_utc", 0), std::string::npos);
   EXPECT_EQ(lines[2].rfind("bin_start_utc", 0), std::string::npos);
   for (const std::string& name : Fields(lines[0])) {
-    bool has_unit = name.ends_with("_utc") || name.ends_with("_ml") ||
-                    name.ends_with("_count") || name.ends_with("_per_ml");
+    bool has_unit = name.ends_with("_utc") || name.ends_with("_ml") || name.ends_with("_count") ||
+                    name.ends_with("_per_ml");
     EXPECT_TRUE(has_unit) << name;
   }
 }
@@ -283,7 +283,8 @@ TEST(CountFileWriter, FaultAtAnyOperationThenRestoreGivesTheCheckpointedFiles) {
     writer.SetClusters({1});
     Status status = writer.WriteBins({Bin(kDay, 1, {{1, 5}})});
     if (offsets && status.ok()) *offsets = writer.Offsets();
-    if (status.ok()) status = writer.WriteBins({Bin(kDay + 60, 1, {{2, 1}}), Bin(kDay + 86400, 2, {{1, 3}})});
+    if (status.ok())
+      status = writer.WriteBins({Bin(kDay + 60, 1, {{2, 1}}), Bin(kDay + 86400, 2, {{1, 3}})});
     SampleTally sample;
     sample.sample_id = "s";
     sample.first_seconds = kDay;

@@ -4,20 +4,34 @@ namespace seston::testing {
 
 std::string_view FileOperationName(FileOperation operation) {
   switch (operation) {
-    case FileOperation::kReadFile: return "read";
-    case FileOperation::kOpenForWrite: return "open";
-    case FileOperation::kAppend: return "append";
-    case FileOperation::kSync: return "sync";
-    case FileOperation::kClose: return "close";
-    case FileOperation::kRename: return "rename";
-    case FileOperation::kRemove: return "remove";
-    case FileOperation::kTruncate: return "truncate";
-    case FileOperation::kSyncDirectory: return "sync directory";
-    case FileOperation::kCreateDirectories: return "create directories";
-    case FileOperation::kStat: return "stat";
-    case FileOperation::kListDirectory: return "list directory";
-    case FileOperation::kSpace: return "space";
-    case FileOperation::kExists: return "exists";
+    case FileOperation::kReadFile:
+      return "read";
+    case FileOperation::kOpenForWrite:
+      return "open";
+    case FileOperation::kAppend:
+      return "append";
+    case FileOperation::kSync:
+      return "sync";
+    case FileOperation::kClose:
+      return "close";
+    case FileOperation::kRename:
+      return "rename";
+    case FileOperation::kRemove:
+      return "remove";
+    case FileOperation::kTruncate:
+      return "truncate";
+    case FileOperation::kSyncDirectory:
+      return "sync directory";
+    case FileOperation::kCreateDirectories:
+      return "create directories";
+    case FileOperation::kStat:
+      return "stat";
+    case FileOperation::kListDirectory:
+      return "list directory";
+    case FileOperation::kSpace:
+      return "space";
+    case FileOperation::kExists:
+      return "exists";
   }
   return "unknown";
 }

@@ -47,10 +47,10 @@ std::string_view FileOperationName(FileOperation operation);
 
 struct FileFault {
   std::optional<FileOperation> operation;  // nullopt: any failable operation
-  std::uint64_t nth = 1;      // 1-based, among matching calls made after Arm
+  std::uint64_t nth = 1;                   // 1-based, among matching calls made after Arm
   Status status = Status::IoError("injected input/output error");
-  bool torn = false;          // an Append writes the first half of its data, then fails
-  bool persistent = false;    // every later matching call fails too (a disk that stays full)
+  bool torn = false;        // an Append writes the first half of its data, then fails
+  bool persistent = false;  // every later matching call fails too (a disk that stays full)
 };
 
 class FaultyFileSystem final : public FileSystem {
@@ -68,8 +68,7 @@ class FaultyFileSystem final : public FileSystem {
   std::uint64_t failable_count() const { return failable_count_; }
   void ResetCounts();
 
-  Result<std::string> ReadFile(const std::filesystem::path& path,
-                               std::uint64_t max_bytes) override;
+  Result<std::string> ReadFile(const std::filesystem::path& path, std::uint64_t max_bytes) override;
   Result<std::unique_ptr<WritableFile>> OpenForWrite(const std::filesystem::path& path,
                                                      bool append) override;
   Status Rename(const std::filesystem::path& from, const std::filesystem::path& to) override;
