@@ -1,0 +1,124 @@
+#include "ingest/field_text.h"
+
+#include <charconv>
+#include <cmath>
+#include <set>
+#include <string>
+#include <system_error>
+
+#include "base/time_format.h"
+
+namespace seston {
+namespace {
+
+enum class NumberText { kNumber, kNotANumber, kOutOfRange };
+
+NumberText ParseNumber(std::string_view text, double* value) {
+  if (text.size() > 1 && text[0] == '+' && text[1] != '-' && text[1] != '+') {
+    text.remove_prefix(1);
+  }
+  if (text.empty()) return NumberText::kNotANumber;
+  const char* end = text.data() + text.size();
+  auto [stop, error] = std::from_chars(text.data(), end, *value);
+  if (stop != end) return NumberText::kNotANumber;
+  if (error == std::errc::result_out_of_range) return NumberText::kOutOfRange;
+  return error == std::errc() ? NumberText::kNumber : NumberText::kNotANumber;
+}
+
+void Reject(std::uint64_t line, RejectReason reason, std::string_view column, std::string_view text,
+            std::string_view problem, RowRejection* rejection) {
+  rejection->line = line;
+  rejection->reason = reason;
+  rejection->detail = "column ";
+  rejection->detail += column;
+  rejection->detail += ": \"";
+  rejection->detail += text;
+  rejection->detail += "\" ";
+  rejection->detail += problem;
+}
+
+}  // namespace
+
+Status CheckColumnNames(const InputOptions& input,
+                        const std::vector<std::string>& feature_columns) {
+  if (feature_columns.empty()) {
+    return Status::InvalidArgument("no feature columns; name at least one");
+  }
+  if (input.time_column.empty()) {
+    return Status::InvalidArgument("input.time_column is empty; name the time column");
+  }
+  if (input.max_line_bytes == 0) {
+    return Status::InvalidArgument("input.max_line_bytes must be at least 1");
+  }
+  std::set<std::string> names = {input.time_column};
+  for (const std::string* role : {&input.sample_column, &input.volume_column}) {
+    if (!role->empty() && !names.insert(*role).second) {
+      return Status::InvalidArgument("column \"" + *role +
+                                     "\" is configured for two roles (time, sample, volume)");
+    }
+  }
+  for (const std::string& column : feature_columns) {
+    if (column.empty()) return Status::InvalidArgument("a feature column name is empty");
+    if (!names.insert(column).second) {
+      return Status::InvalidArgument("feature column \"" + column +
+                                     "\" is named twice or is also the time, sample or volume "
+                                     "column");
+    }
+  }
+  return Status::Ok();
+}
+
+std::string_view TrimBlanks(std::string_view text) {
+  std::size_t begin = 0;
+  std::size_t end = text.size();
+  while (begin < end && (text[begin] == ' ' || text[begin] == '\t')) ++begin;
+  while (end > begin && (text[end - 1] == ' ' || text[end - 1] == '\t')) --end;
+  return text.substr(begin, end - begin);
+}
+
+bool ReadFeatureValue(std::string_view column, std::string_view text, std::uint64_t line,
+                      double* value, RowRejection* rejection) {
+  const std::string_view trimmed = TrimBlanks(text);
+  switch (ParseNumber(trimmed, value)) {
+    case NumberText::kNumber:
+      if (std::isfinite(*value)) return true;
+      Reject(line, RejectReason::kNotFinite, column, trimmed, "is not a finite number", rejection);
+      return false;
+    case NumberText::kOutOfRange:
+      Reject(line, RejectReason::kNotFinite, column, trimmed,
+             "is out of the range of a double-precision number", rejection);
+      return false;
+    case NumberText::kNotANumber:
+      break;
+  }
+  Reject(line, RejectReason::kNotANumber, column, trimmed,
+         "is not a number; expected a decimal such as 12.5 or 1.2e3", rejection);
+  return false;
+}
+
+bool ReadEventTime(std::string_view column, std::string_view text, std::uint64_t line,
+                   double* seconds, RowRejection* rejection) {
+  const std::string_view trimmed = TrimBlanks(text);
+  if (std::optional<double> parsed = ParseEventTime(trimmed)) {
+    *seconds = *parsed;
+    return true;
+  }
+  Reject(line, RejectReason::kBadTime, column, trimmed,
+         "is not a time; expected epoch seconds or ISO 8601 UTC such as 2026-12-02T03:04:05Z",
+         rejection);
+  return false;
+}
+
+bool ReadVolume(std::string_view column, std::string_view text, std::uint64_t line,
+                double* volume_ml, RowRejection* rejection) {
+  const std::string_view trimmed = TrimBlanks(text);
+  if (ParseNumber(trimmed, volume_ml) == NumberText::kNumber && std::isfinite(*volume_ml) &&
+      *volume_ml > 0.0) {
+    return true;
+  }
+  Reject(line, RejectReason::kBadVolume, column, trimmed,
+         "is not a volume; expected a positive number of mL", rejection);
+  return false;
+}
+
+}  // namespace seston
