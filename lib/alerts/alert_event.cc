@@ -58,8 +58,7 @@ Result<AlertEvent> AlertEventFromJson(const nlohmann::json& json) {
                                   cluster.at("label").get<std::string>());
     }
   } catch (const nlohmann::json::exception& error) {
-    return Status::Corruption(std::string("alert event field \"") + field + "\": " +
-                              error.what());
+    return Status::Corruption(std::string("alert event field \"") + field + "\": " + error.what());
   }
   return event;
 }

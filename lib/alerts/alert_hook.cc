@@ -39,8 +39,10 @@ struct SpawnSetup {
 };
 
 std::string Describe(int wait_status) {
-  if (WIFEXITED(wait_status)) return "exited with status " + std::to_string(WEXITSTATUS(wait_status));
-  if (WIFSIGNALED(wait_status)) return "was killed by signal " + std::to_string(WTERMSIG(wait_status));
+  if (WIFEXITED(wait_status))
+    return "exited with status " + std::to_string(WEXITSTATUS(wait_status));
+  if (WIFSIGNALED(wait_status))
+    return "was killed by signal " + std::to_string(WTERMSIG(wait_status));
   return "ended with wait status " + std::to_string(wait_status);
 }
 
@@ -76,8 +78,8 @@ Status AlertHook::Run(const std::filesystem::path& alert_file) const {
   const int spawned =
       posix_spawnp(&pid, program.c_str(), &setup.actions, &setup.attributes, raw.data(), environ);
   if (spawned != 0) {
-    return Status::IoError("alert hook \"" + program + "\" could not start: " +
-                           std::strerror(spawned));
+    return Status::IoError("alert hook \"" + program +
+                           "\" could not start: " + std::strerror(spawned));
   }
 
   const double deadline = clock_->MonotonicSeconds() + timeout_seconds_;
@@ -88,8 +90,8 @@ Status AlertHook::Run(const std::filesystem::path& alert_file) const {
     if (done < 0 && errno != EINTR) {
       const int error = errno;
       ::kill(-pid, SIGKILL);
-      return Status::IoError("alert hook \"" + program + "\": cannot wait for it: " +
-                             std::strerror(error));
+      return Status::IoError("alert hook \"" + program +
+                             "\": cannot wait for it: " + std::strerror(error));
     }
     if (clock_->MonotonicSeconds() >= deadline) {
       ::kill(-pid, SIGKILL);

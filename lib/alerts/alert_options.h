@@ -14,7 +14,7 @@ struct AlertOptions {
                                      // cluster may raise again, s
   std::string hook_command;          // run with the alert file path as argument; "" = none
   double hook_timeout_seconds = 10;
-  std::size_t recent_kept = 200;     // resolved alerts kept for GET /v1/alerts
+  std::size_t recent_kept = 200;  // resolved alerts kept for GET /v1/alerts
 };
 
 }  // namespace seston

@@ -8,8 +8,8 @@
 namespace seston {
 namespace {
 
-std::vector<std::pair<std::uint32_t, std::string>> Labelled(
-    const std::vector<std::uint32_t>& ids, const AlertPolicy::LabelOf& label_of) {
+std::vector<std::pair<std::uint32_t, std::string>> Labelled(const std::vector<std::uint32_t>& ids,
+                                                            const AlertPolicy::LabelOf& label_of) {
   std::vector<std::pair<std::uint32_t, std::string>> clusters;
   for (std::uint32_t id : ids) clusters.emplace_back(id, label_of ? label_of(id) : "");
   return clusters;
@@ -25,10 +25,9 @@ std::vector<std::uint32_t> Ids(const std::vector<std::pair<std::uint32_t, std::s
 
 Result<AlertPolicy> AlertPolicy::Create(AlertOptions options, std::string station) {
   if (options.raise_after < 1 || options.resolve_after < 1) {
-    return Status::InvalidArgument("alerts.raise_after and alerts.resolve_after are " +
-                                   std::to_string(options.raise_after) + " and " +
-                                   std::to_string(options.resolve_after) +
-                                   "; both must be at least 1 evaluation");
+    return Status::InvalidArgument(
+        "alerts.raise_after and alerts.resolve_after are " + std::to_string(options.raise_after) +
+        " and " + std::to_string(options.resolve_after) + "; both must be at least 1 evaluation");
   }
   if (!(options.cooldown_seconds >= 0 && std::isfinite(options.cooldown_seconds))) {
     return Status::InvalidArgument("alerts.cooldown_seconds is " +
@@ -39,17 +38,15 @@ Result<AlertPolicy> AlertPolicy::Create(AlertOptions options, std::string statio
 }
 
 std::vector<AlertEvent> AlertPolicy::Observe(const DetectorReading& reading,
-                                             double event_time_seconds,
-                                             const LabelOf& label_of) {
+                                             double event_time_seconds, const LabelOf& label_of) {
   const Key primary{reading.kind, reading.clusters.empty() ? 0u : reading.clusters.front()};
   if (reading.level == DriftLevel::kAlarm) keys_.try_emplace(primary);
 
   std::vector<AlertEvent> events;
-  for (auto it = keys_.lower_bound({reading.kind, 0}); it != keys_.end() &&
-                                                       it->first.first == reading.kind;) {
+  for (auto it = keys_.lower_bound({reading.kind, 0});
+       it != keys_.end() && it->first.first == reading.kind;) {
     const Key& key = it->first;
-    const bool named = key == primary || std::find(reading.clusters.begin(),
-                                                   reading.clusters.end(),
+    const bool named = key == primary || std::find(reading.clusters.begin(), reading.clusters.end(),
                                                    key.second) != reading.clusters.end();
     const DriftLevel level = named ? reading.level : DriftLevel::kOk;
     KeyState& state = it->second;
@@ -85,8 +82,7 @@ std::optional<AlertEvent> AlertPolicy::Apply(const Key& key, KeyState& state, Dr
       resolved.clusters = Labelled(Ids(resolved.clusters), label_of);
       resolved.statistic = reading.statistic;
       resolved.threshold = reading.threshold;
-      resolved.message = "Back within thresholds after " +
-                         std::to_string(state.consecutive_oks) +
+      resolved.message = "Back within thresholds after " + std::to_string(state.consecutive_oks) +
                          " consecutive ok evaluations (alarm since " +
                          FormatIso8601(resolved.since_seconds) +
                          "). Latest reading: " + reading.what_changed;
@@ -179,7 +175,8 @@ Result<AlertPolicy> AlertPolicy::FromJson(const nlohmann::json& state, AlertOpti
         if (!event.ok()) return event.status().WithContext("alert policy state");
         key_state.active = std::move(event).value();
       }
-      policy.keys_[{entry.at("kind").get<std::string>(), entry.at("cluster").get<std::uint32_t>()}] =
+      policy
+          .keys_[{entry.at("kind").get<std::string>(), entry.at("cluster").get<std::uint32_t>()}] =
           std::move(key_state);
     }
     for (const nlohmann::json& entry : state.at("recent")) {

@@ -26,12 +26,11 @@
 #include <deque>
 #include <functional>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <utility>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "alerts/alert_event.h"
 #include "alerts/alert_options.h"

@@ -34,8 +34,8 @@ Result<std::string> AlertWriter::FileNameOf(const AlertEvent& event) {
   char sequence[32];
   std::snprintf(sequence, sizeof sequence, "%06llu",
                 static_cast<unsigned long long>(event.sequence));
-  return FormatCompact(event.time_seconds) + "-" + sequence + "-" + event.event + "-" +
-         event.kind + ".json";
+  return FormatCompact(event.time_seconds) + "-" + sequence + "-" + event.event + "-" + event.kind +
+         ".json";
 }
 
 Result<std::filesystem::path> AlertWriter::Write(const AlertEvent& event) {

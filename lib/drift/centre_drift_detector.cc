@@ -14,8 +14,7 @@ Status CheckFinite(const ClusterRef& cluster, const char* which) {
   for (double value : cluster.centre) {
     if (!std::isfinite(value)) {
       return Status::InvalidArgument(std::string(which) + " centre of cluster " +
-                                     std::to_string(cluster.id) +
-                                     " has a non-finite coordinate");
+                                     std::to_string(cluster.id) + " has a non-finite coordinate");
     }
   }
   return Status::Ok();
@@ -97,8 +96,7 @@ Result<CentreDriftDetector> CentreDriftDetector::Create(CentreDriftOptions optio
   }
   if (!(options.common_fraction > 0 && options.common_fraction <= 1)) {
     return Status::InvalidArgument("drift.centre.common_fraction is " +
-                                   std::to_string(options.common_fraction) +
-                                   "; must be in (0, 1]");
+                                   std::to_string(options.common_fraction) + "; must be in (0, 1]");
   }
   if (!(options.same_direction_cosine >= -1 && options.same_direction_cosine < 1)) {
     return Status::InvalidArgument("drift.centre.same_direction_cosine is " +
@@ -119,9 +117,8 @@ Status CentreDriftDetector::SetBaseline(std::vector<ClusterRef> clusters) {
     }
     SESTON_RETURN_IF_ERROR(CheckFinite(cluster, "baseline"));
     if (!(cluster.spread > 0 && std::isfinite(cluster.spread))) {
-      return Status::InvalidArgument("baseline spread of cluster " +
-                                     std::to_string(cluster.id) + " is " +
-                                     std::to_string(cluster.spread) +
+      return Status::InvalidArgument("baseline spread of cluster " + std::to_string(cluster.id) +
+                                     " is " + std::to_string(cluster.spread) +
                                      "; must be finite and > 0 (z units)");
     }
   }
@@ -193,12 +190,12 @@ Result<CentreDriftEvaluation> CentreDriftDetector::Evaluate(
     instrument.statistic = moved[needed - 1]->spreads;
     instrument.level = LevelOf(instrument.statistic, options_);
     for (const CentreDisplacement* d : moved) instrument.clusters.push_back(d->id);
-    instrument.what_changed =
-        std::to_string(moved.size()) + " of " + std::to_string(matched) +
-        " cluster centres moved the same way (mean pairwise cosine " + FormatFixed(cosine, 2) +
-        "); " + std::to_string(needed) + " of them moved " +
-        FormatFixed(instrument.statistic, 2) + " spreads or more (" + Thresholds(options_) +
-        "). Mean shift per feature, z units: " + MeanShift(moved) + ".";
+    instrument.what_changed = std::to_string(moved.size()) + " of " + std::to_string(matched) +
+                              " cluster centres moved the same way (mean pairwise cosine " +
+                              FormatFixed(cosine, 2) + "); " + std::to_string(needed) +
+                              " of them moved " + FormatFixed(instrument.statistic, 2) +
+                              " spreads or more (" + Thresholds(options_) +
+                              "). Mean shift per feature, z units: " + MeanShift(moved) + ".";
     instrument.what_to_check =
         "A shift shared by most groups points to the instrument rather than the water: "
         "check focus, calibration against a size standard, fouling of the flow cell and "
@@ -209,15 +206,16 @@ Result<CentreDriftEvaluation> CentreDriftDetector::Evaluate(
   }
 
   instrument.what_changed =
-      moved.empty() ? "No cluster centre moved " + FormatFixed(options_.warn_spreads, 2) +
-                          " spreads or more."
-                    : "The clusters that moved do not move together (" +
-                          std::to_string(moved.size()) + " of " + std::to_string(matched) +
-                          (moved.size() >= 2 ? ", mean pairwise cosine " + FormatFixed(cosine, 2)
-                                             : std::string()) +
-                          ").";
+      moved.empty()
+          ? "No cluster centre moved " + FormatFixed(options_.warn_spreads, 2) + " spreads or more."
+          : "The clusters that moved do not move together (" + std::to_string(moved.size()) +
+                " of " + std::to_string(matched) +
+                (moved.size() >= 2 ? ", mean pairwise cosine " + FormatFixed(cosine, 2)
+                                   : std::string()) +
+                ").";
   double largest = 0;
-  for (const CentreDisplacement& d : evaluation.displacements) largest = std::max(largest, d.spreads);
+  for (const CentreDisplacement& d : evaluation.displacements)
+    largest = std::max(largest, d.spreads);
   population.statistic = largest;
   population.level = LevelOf(largest, options_);
   if (moved.empty()) {
@@ -229,12 +227,12 @@ Result<CentreDriftEvaluation> CentreDriftDetector::Evaluate(
   std::string described;
   for (const CentreDisplacement* d : moved) {
     population.clusters.push_back(d->id);
-    described += (described.empty() ? "" : "; ") + std::string("cluster ") +
-                 std::to_string(d->id) + " centre moved " + FormatFixed(d->spreads, 2) +
-                 " spreads (" + FormatFixed(d->distance, 3) + " z units)";
+    described += (described.empty() ? "" : "; ") + std::string("cluster ") + std::to_string(d->id) +
+                 " centre moved " + FormatFixed(d->spreads, 2) + " spreads (" +
+                 FormatFixed(d->distance, 3) + " z units)";
   }
-  population.what_changed = described + " since the baseline (" + Thresholds(options_) +
-                            "); " + std::to_string(matched - moved.size()) + " of " +
+  population.what_changed = described + " since the baseline (" + Thresholds(options_) + "); " +
+                            std::to_string(matched - moved.size()) + " of " +
                             std::to_string(matched) + " clusters stayed put.";
   population.what_to_check =
       "Only some groups moved, which points to a change in those populations (growth, "
@@ -247,7 +245,8 @@ Result<CentreDriftEvaluation> CentreDriftDetector::Evaluate(
 nlohmann::json CentreDriftDetector::ToJson() const {
   nlohmann::json baseline = nlohmann::json::array();
   for (const ClusterRef& cluster : baseline_) {
-    baseline.push_back({{"id", cluster.id}, {"centre", cluster.centre}, {"spread", cluster.spread}});
+    baseline.push_back(
+        {{"id", cluster.id}, {"centre", cluster.centre}, {"spread", cluster.spread}});
   }
   return {{"baseline", baseline}};
 }

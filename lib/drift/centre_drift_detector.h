@@ -22,9 +22,8 @@
 #pragma once
 
 #include <cstdint>
-#include <vector>
-
 #include <nlohmann/json.hpp>
+#include <vector>
 
 #include "base/status.h"
 #include "drift/detector_reading.h"

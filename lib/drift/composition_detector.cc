@@ -48,8 +48,8 @@ std::string DescribeChange(const ShareChange& change) {
   if (change.recent_percent == 0) return cluster + " vanished (" + from_to + ")";
   const double times = change.recent_percent / change.baseline_percent;
   const std::string verb = times >= 1 ? " rose " : " fell ";
-  const std::string factor = times >= 1 ? FormatFixed(times, 2) + " times"
-                                        : "to " + FormatFixed(times, 2) + " times";
+  const std::string factor =
+      times >= 1 ? FormatFixed(times, 2) + " times" : "to " + FormatFixed(times, 2) + " times";
   return cluster + verb + factor + " (" + from_to + ")";
 }
 
@@ -57,16 +57,14 @@ std::string DescribeChange(const ShareChange& change) {
 
 Result<CompositionDetector> CompositionDetector::Create(CompositionOptions options) {
   if (!(options.alpha > 0 && options.alpha < 1)) {
-    return Status::InvalidArgument("drift.composition.alpha is " +
-                                   std::to_string(options.alpha) +
+    return Status::InvalidArgument("drift.composition.alpha is " + std::to_string(options.alpha) +
                                    "; must be between 0 and 1 (exclusive)");
   }
-  if (!(options.warn_jsd >= 0 && options.warn_jsd <= options.alarm_jsd &&
-        options.alarm_jsd <= 1)) {
-    return Status::InvalidArgument(
-        "drift.composition.warn_jsd and alarm_jsd are " + std::to_string(options.warn_jsd) +
-        " and " + std::to_string(options.alarm_jsd) +
-        "; need 0 <= warn_jsd <= alarm_jsd <= 1 (bits)");
+  if (!(options.warn_jsd >= 0 && options.warn_jsd <= options.alarm_jsd && options.alarm_jsd <= 1)) {
+    return Status::InvalidArgument("drift.composition.warn_jsd and alarm_jsd are " +
+                                   std::to_string(options.warn_jsd) + " and " +
+                                   std::to_string(options.alarm_jsd) +
+                                   "; need 0 <= warn_jsd <= alarm_jsd <= 1 (bits)");
   }
   return CompositionDetector(options);
 }
@@ -125,8 +123,8 @@ Result<DetectorReading> CompositionDetector::Evaluate(
   std::vector<ShareChange> changes;
   std::size_t column = 0;
   for (std::uint32_t id : ids) {
-    changes.push_back({id, 100 * baseline_row[column] / baseline_total,
-                       100 * recent_row[column] / recent_total});
+    changes.push_back(
+        {id, 100 * baseline_row[column] / baseline_total, 100 * recent_row[column] / recent_total});
     ++column;
   }
   auto move = [](const ShareChange& c) { return std::abs(c.recent_percent - c.baseline_percent); };
@@ -149,11 +147,10 @@ Result<DetectorReading> CompositionDetector::Evaluate(
       ". Jensen-Shannon divergence " + FormatFixed(jsd, 4) + " bits (warn at " +
       FormatFixed(options_.warn_jsd, 4) + ", alarm at " + FormatFixed(options_.alarm_jsd, 4) +
       " bits); G-test G = " + FormatFixed(g_test.statistic, 2) + ", df " +
-      std::to_string(g_test.degrees_of_freedom) + ", p = " +
-      FormatSignificant(g_test.p_value, 3) + (significant ? " (significant" : " (not significant") +
-      " at alpha " + FormatSignificant(options_.alpha, 3) + "); " +
-      FormatFixed(recent_total, 0) + " recent particles against " +
-      FormatFixed(baseline_total, 0) + " at baseline.";
+      std::to_string(g_test.degrees_of_freedom) + ", p = " + FormatSignificant(g_test.p_value, 3) +
+      (significant ? " (significant" : " (not significant") + " at alpha " +
+      FormatSignificant(options_.alpha, 3) + "); " + FormatFixed(recent_total, 0) +
+      " recent particles against " + FormatFixed(baseline_total, 0) + " at baseline.";
   if (reading.level != DriftLevel::kOk) {
     reading.what_to_check =
         "Look at recent images of the clusters named: a bloom, a new source of particles "

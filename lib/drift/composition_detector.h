@@ -17,7 +17,6 @@
 
 #include <cstdint>
 #include <map>
-
 #include <nlohmann/json.hpp>
 
 #include "base/status.h"

@@ -12,8 +12,8 @@ namespace {
 Status CheckEntries(const std::vector<double>& values, const char* name) {
   for (std::size_t i = 0; i < values.size(); ++i) {
     if (!std::isfinite(values[i]) || values[i] < 0) {
-      return Status::InvalidArgument(std::string(name) + "[" + std::to_string(i) +
-                                     "] is " + std::to_string(values[i]) +
+      return Status::InvalidArgument(std::string(name) + "[" + std::to_string(i) + "] is " +
+                                     std::to_string(values[i]) +
                                      "; counts and shares must be finite and >= 0");
     }
   }
@@ -30,8 +30,8 @@ Status CheckPair(const std::vector<double>& first, const std::vector<double>& se
                  const char* first_name, const char* second_name) {
   if (first.size() != second.size()) {
     return Status::InvalidArgument(std::string(first_name) + " has " +
-                                   std::to_string(first.size()) + " entries but " +
-                                   second_name + " has " + std::to_string(second.size()) +
+                                   std::to_string(first.size()) + " entries but " + second_name +
+                                   " has " + std::to_string(second.size()) +
                                    "; both must list the same categories");
   }
   SESTON_RETURN_IF_ERROR(CheckEntries(first, first_name));
@@ -127,8 +127,7 @@ Result<HomogeneityTest> GTestHomogeneity(const std::vector<double>& baseline,
   return Finish(std::max(0.0, 2 * sum), table.observed[0].size());
 }
 
-Result<double> JensenShannonDivergence(const std::vector<double>& p,
-                                       const std::vector<double>& q) {
+Result<double> JensenShannonDivergence(const std::vector<double>& p, const std::vector<double>& q) {
   SESTON_RETURN_IF_ERROR(CheckPair(p, q, "p", "q"));
   const double p_total = Sum(p);
   const double q_total = Sum(q);

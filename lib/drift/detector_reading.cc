@@ -4,9 +4,12 @@ namespace seston {
 
 std::string_view DriftLevelName(DriftLevel level) {
   switch (level) {
-    case DriftLevel::kOk: return "ok";
-    case DriftLevel::kWarn: return "warn";
-    case DriftLevel::kAlarm: return "alarm";
+    case DriftLevel::kOk:
+      return "ok";
+    case DriftLevel::kWarn:
+      return "warn";
+    case DriftLevel::kAlarm:
+      return "alarm";
   }
   return "unknown";
 }

@@ -15,25 +15,25 @@ struct CompositionOptions {
 };
 
 struct CentreDriftOptions {
-  double warn_spreads = 0.5;    // centre displacement in units of the cluster's spread
+  double warn_spreads = 0.5;  // centre displacement in units of the cluster's spread
   double alarm_spreads = 1.0;
-  double common_fraction = 0.6; // this share of centres moving the same way: instrument
+  double common_fraction = 0.6;  // this share of centres moving the same way: instrument
   // Mean pairwise cosine of the moved centres' displacement vectors above which they are
   // taken to move "the same way" (default 0.7, i.e. within about 45 degrees; -1..1).
   double same_direction_cosine = 0.7;
 };
 
-struct FitOptions {  // Page–Hinkley on distance to the assigned centre
-  double delta = 0.005;         // tolerated change in mean distance, z units
-  double lambda = 50.0;         // alarm threshold on the cumulative statistic, z units
-  double alpha = 1.0;           // forgetting factor of the cumulative sum, 1 = none
+struct FitOptions {      // Page–Hinkley on distance to the assigned centre
+  double delta = 0.005;  // tolerated change in mean distance, z units
+  double lambda = 50.0;  // alarm threshold on the cumulative statistic, z units
+  double alpha = 1.0;    // forgetting factor of the cumulative sum, 1 = none
   std::size_t min_particles = 30;
 };
 
 struct NoveltyRateOptions {
   std::size_t window_particles = 5000;
-  double alpha = 0.001;         // one-sided binomial test against the baseline rate
-  double warn_ratio = 2.0;      // recent rate / baseline rate
+  double alpha = 0.001;     // one-sided binomial test against the baseline rate
+  double warn_ratio = 2.0;  // recent rate / baseline rate
   double alarm_ratio = 4.0;
   // A baseline unclassified rate below this is raised to it (default 0.001, a fraction),
   // so that a spotless warm-up does not make every later stray particle significant.

@@ -37,9 +37,9 @@ DetectorReading FitDetector::Evaluate() const {
   reading.what_changed =
       "Page-Hinkley statistic on the distance of particles to their assigned centre is " +
       FormatFixed(reading.statistic, 3) + " z units (warn above " +
-      FormatFixed(parameters.lambda / 2, 3) + ", alarm above " +
-      FormatFixed(parameters.lambda, 3) + ") after " + std::to_string(test_.n()) +
-      " particles; mean distance so far " + FormatFixed(test_.mean(), 3) + " z units." +
+      FormatFixed(parameters.lambda / 2, 3) + ", alarm above " + FormatFixed(parameters.lambda, 3) +
+      ") after " + std::to_string(test_.n()) + " particles; mean distance so far " +
+      FormatFixed(test_.mean(), 3) + " z units." +
       (enough ? "" : " Too few particles to judge yet.");
   if (reading.level != DriftLevel::kOk) {
     reading.what_changed =

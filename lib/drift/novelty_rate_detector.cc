@@ -9,21 +9,21 @@
 #include "drift/reading_text.h"
 
 namespace seston {
-namespace {
 
-// P(X >= k) for X ~ Binomial(n, p), k <= n.
-Result<double> UpperTail(std::uint64_t k, std::uint64_t n, double p) {
+Result<double> BinomialUpperTail(std::uint64_t k, std::uint64_t n, double p) {
+  if (k > n || !(p >= 0 && p <= 1)) {
+    return Status::InvalidArgument(
+        "binomial upper tail needs k <= n and 0 <= p <= 1, got k = " + std::to_string(k) +
+        ", n = " + std::to_string(n) + ", p = " + std::to_string(p));
+  }
   if (k == 0) return 1.0;
   try {
     boost::math::binomial_distribution<double> distribution(static_cast<double>(n), p);
     return boost::math::cdf(boost::math::complement(distribution, static_cast<double>(k - 1)));
   } catch (const std::exception& error) {
-    return Status::Internal(std::string("Boost.Math binomial upper tail failed: ") +
-                            error.what());
+    return Status::Internal(std::string("Boost.Math binomial upper tail failed: ") + error.what());
   }
 }
-
-}  // namespace
 
 Result<NoveltyRateDetector> NoveltyRateDetector::Create(NoveltyRateOptions options) {
   if (!(options.alpha > 0 && options.alpha < 1)) {
@@ -32,10 +32,9 @@ Result<NoveltyRateDetector> NoveltyRateDetector::Create(NoveltyRateOptions optio
   }
   if (!(options.warn_ratio >= 1 && options.warn_ratio <= options.alarm_ratio &&
         std::isfinite(options.alarm_ratio))) {
-    return Status::InvalidArgument("drift.novelty.warn_ratio and alarm_ratio are " +
-                                   std::to_string(options.warn_ratio) + " and " +
-                                   std::to_string(options.alarm_ratio) +
-                                   "; need 1 <= warn_ratio <= alarm_ratio");
+    return Status::InvalidArgument(
+        "drift.novelty.warn_ratio and alarm_ratio are " + std::to_string(options.warn_ratio) +
+        " and " + std::to_string(options.alarm_ratio) + "; need 1 <= warn_ratio <= alarm_ratio");
   }
   if (!(options.min_baseline_rate > 0 && options.min_baseline_rate < 1)) {
     return Status::InvalidArgument("drift.novelty.min_baseline_rate is " +
@@ -81,7 +80,7 @@ Result<DetectorReading> NoveltyRateDetector::Evaluate(std::uint64_t unclassified
   }
   const double p0 = tested_rate();
   const double rate = static_cast<double>(unclassified) / static_cast<double>(total);
-  SESTON_ASSIGN_OR_RETURN(double p_value, UpperTail(unclassified, total, p0));
+  SESTON_ASSIGN_OR_RETURN(double p_value, BinomialUpperTail(unclassified, total, p0));
   reading.statistic = rate / p0;
   const bool significant = p_value < options_.alpha;
   if (significant && reading.statistic >= options_.alarm_ratio) {
@@ -90,13 +89,13 @@ Result<DetectorReading> NoveltyRateDetector::Evaluate(std::uint64_t unclassified
     reading.level = DriftLevel::kWarn;
   }
   reading.what_changed =
-      "Unclassified particles: " + std::to_string(unclassified) + " of " +
-      std::to_string(total) + " (" + FormatFixed(100 * rate, 2) + " %) against a baseline of " +
-      FormatFixed(100 * p0, 2) + " %, " + FormatFixed(reading.statistic, 2) +
-      " times the baseline (warn at " + FormatFixed(options_.warn_ratio, 2) + ", alarm at " +
-      FormatFixed(options_.alarm_ratio, 2) + " times); one-sided binomial p = " +
-      FormatSignificant(p_value, 3) + (significant ? " (significant" : " (not significant") +
-      " at alpha " + FormatSignificant(options_.alpha, 3) + ").";
+      "Unclassified particles: " + std::to_string(unclassified) + " of " + std::to_string(total) +
+      " (" + FormatFixed(100 * rate, 2) + " %) against a baseline of " + FormatFixed(100 * p0, 2) +
+      " %, " + FormatFixed(reading.statistic, 2) + " times the baseline (warn at " +
+      FormatFixed(options_.warn_ratio, 2) + ", alarm at " + FormatFixed(options_.alarm_ratio, 2) +
+      " times); one-sided binomial p = " + FormatSignificant(p_value, 3) +
+      (significant ? " (significant" : " (not significant") + " at alpha " +
+      FormatSignificant(options_.alpha, 3) + ").";
   if (reading.level != DriftLevel::kOk) {
     reading.what_to_check =
         "Particles far from every group arrive more often: a new kind of particle, debris, "

@@ -13,7 +13,6 @@
 #pragma once
 
 #include <cstdint>
-
 #include <nlohmann/json.hpp>
 
 #include "base/status.h"
@@ -21,6 +20,10 @@
 #include "drift/drift_options.h"
 
 namespace seston {
+
+// P(X >= k) for X ~ Binomial(n, p) (Boost.Math); 1 when k = 0. Fails unless k <= n and
+// 0 <= p <= 1.
+Result<double> BinomialUpperTail(std::uint64_t k, std::uint64_t n, double p);
 
 class NoveltyRateDetector {
  public:

@@ -12,8 +12,7 @@ Result<PageHinkley> PageHinkley::Create(PageHinkleyParameters parameters) {
                                    "; must be finite and >= 0");
   }
   if (!(parameters.lambda > 0 && std::isfinite(parameters.lambda))) {
-    return Status::InvalidArgument("Page-Hinkley lambda is " +
-                                   std::to_string(parameters.lambda) +
+    return Status::InvalidArgument("Page-Hinkley lambda is " + std::to_string(parameters.lambda) +
                                    "; must be finite and > 0");
   }
   if (!(parameters.alpha > 0 && parameters.alpha <= 1)) {
@@ -58,7 +57,8 @@ Result<PageHinkley> PageHinkley::FromJson(const nlohmann::json& state,
       !std::isfinite(test.minimum_) || test.minimum_ > test.cumulative_ || test.minimum_ > 0) {
     return Status::Corruption(
         "Page-Hinkley state: mean, cumulative and minimum must be finite with "
-        "minimum <= min(0, cumulative), got " + state.dump());
+        "minimum <= min(0, cumulative), got " +
+        state.dump());
   }
   return test;
 }

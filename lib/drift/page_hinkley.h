@@ -15,7 +15,6 @@
 
 #include <cstddef>
 #include <cstdint>
-
 #include <nlohmann/json.hpp>
 
 #include "base/status.h"
@@ -23,10 +22,10 @@
 namespace seston {
 
 struct PageHinkleyParameters {
-  double delta = 0.005;     // tolerated change in mean, unit of x, >= 0
-  double lambda = 50.0;     // alarm threshold on the statistic, unit of x, > 0
-  double alpha = 1.0;       // forgetting factor in (0, 1]
-  std::size_t min_n = 30;   // no alarm before this many values
+  double delta = 0.005;    // tolerated change in mean, unit of x, >= 0
+  double lambda = 50.0;    // alarm threshold on the statistic, unit of x, > 0
+  double alpha = 1.0;      // forgetting factor in (0, 1]
+  std::size_t min_n = 30;  // no alarm before this many values
 };
 
 class PageHinkley {

@@ -45,8 +45,7 @@ TEST(AlertEvent, JsonHasEveryRequiredField) {
   EXPECT_EQ(json.at("what_to_check"), "look at cluster 3");
   EXPECT_EQ(json.at("caution"), std::string(kScreeningAidCaution));
   EXPECT_NE(json.at("caution").get<std::string>().find("screening aid"), std::string::npos);
-  EXPECT_NE(json.at("caution").get<std::string>().find("accredited laboratory"),
-            std::string::npos);
+  EXPECT_NE(json.at("caution").get<std::string>().find("accredited laboratory"), std::string::npos);
   EXPECT_EQ(json.at("station"), "Skerry Sound mooring B");
   EXPECT_EQ(json.at("sequence"), 42);
 }

@@ -57,9 +57,8 @@ TEST(AlertHook, ScriptChildrenAreKilledWithIt) {
   // the hook's process group, so killing the group at the timeout ends it too; killing
   // only the script would leave it running.
   testing::ScratchDirectory scratch;
-  const auto script =
-      WriteScript(scratch.path(),
-                  "(sleep 1; echo finished > \"$(dirname \"$0\")/done\") &\nwait\n");
+  const auto script = WriteScript(
+      scratch.path(), "(sleep 1; echo finished > \"$(dirname \"$0\")/done\") &\nwait\n");
   auto hook = AlertHook::Create(script.string(), 0.2, SystemClock::Instance());
   ASSERT_TRUE(hook.ok());
   EXPECT_EQ(hook->Run("x.json").code(), StatusCode::kUnavailable);
@@ -72,8 +71,7 @@ TEST(AlertHook, FailingOrMissingCommandIsAnError) {
   ASSERT_TRUE(failing.ok());
   Status failed = failing->Run("a.json");
   EXPECT_EQ(failed.code(), StatusCode::kIoError);
-  EXPECT_NE(failed.message().find("exited with status 1"), std::string::npos)
-      << failed.ToString();
+  EXPECT_NE(failed.message().find("exited with status 1"), std::string::npos) << failed.ToString();
   auto missing = AlertHook::Create("/nonexistent/seston-hook", 5, SystemClock::Instance());
   ASSERT_TRUE(missing.ok());
   Status not_started = missing->Run("a.json");

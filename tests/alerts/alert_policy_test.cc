@@ -73,8 +73,7 @@ TEST(AlertPolicy, RaisesOnlyAfterThreeConsecutiveAlarmsWithSinceAtTheFirst) {
   ASSERT_EQ(raised.clusters.size(), 1u);
   EXPECT_EQ(raised.clusters[0], (std::pair<std::uint32_t, std::string>{4, "diatom chains"}));
   EXPECT_EQ(raised.station, "Skerry Sound mooring B");
-  EXPECT_NE(raised.message.find("since 2026-12-02T00:00:00Z"), std::string::npos)
-      << raised.message;
+  EXPECT_NE(raised.message.find("since 2026-12-02T00:00:00Z"), std::string::npos) << raised.message;
   EXPECT_EQ(policy.active().size(), 1u);
   // Further alarms do not raise again.
   EXPECT_TRUE(Feed(policy, {kAlarm, kAlarm, kAlarm}, kStart + 3 * kStep).empty());
@@ -100,8 +99,8 @@ TEST(AlertPolicy, WarnNeitherExtendsNorBreaksAnAlarmRun) {
 TEST(AlertPolicy, ResolvesAfterFiveConsecutiveOksAndAWarnRestartsTheCount) {
   AlertPolicy policy = MakePolicy();
   ASSERT_EQ(Feed(policy, {kAlarm, kAlarm, kAlarm}, kStart).size(), 1u);
-  EXPECT_TRUE(Feed(policy, {kOk, kOk, kOk, kOk, kWarn, kOk, kOk, kOk, kOk}, kStart + 3 * kStep)
-                  .empty());
+  EXPECT_TRUE(
+      Feed(policy, {kOk, kOk, kOk, kOk, kWarn, kOk, kOk, kOk, kOk}, kStart + 3 * kStep).empty());
   auto events = policy.Observe(Reading(kOk), kStart + 12 * kStep, LabelOf);
   ASSERT_EQ(events.size(), 1u);
   EXPECT_EQ(events[0].event, "resolved");
@@ -170,8 +169,8 @@ TEST(AlertPolicy, SecondaryClusterKeepsItsAlertWhileStillNamed) {
   AlertPolicy policy = MakePolicy(3, 5, 3600);
   ASSERT_EQ(Feed(policy, {kAlarm, kAlarm, kAlarm}, kStart, {4}).size(), 1u);
   // Cluster 7 now leads but 4 is still named: 4's alert stays, 7 raises its own.
-  auto events = Feed(policy, {kAlarm, kAlarm, kAlarm, kAlarm, kAlarm, kAlarm},
-                     kStart + 3 * kStep, {7, 4});
+  auto events =
+      Feed(policy, {kAlarm, kAlarm, kAlarm, kAlarm, kAlarm, kAlarm}, kStart + 3 * kStep, {7, 4});
   ASSERT_EQ(events.size(), 1u);
   EXPECT_EQ(events[0].clusters[0].first, 7u);
   EXPECT_EQ(policy.active().size(), 2u);
@@ -199,7 +198,7 @@ TEST(AlertPolicy, KeepsOnlyTheMostRecentResolvedAlerts) {
 TEST(AlertPolicy, StateRoundTripsExactlyAndContinuesIdentically) {
   AlertPolicy policy = MakePolicy(3, 5, 3600, 10);
   Feed(policy, {kAlarm, kAlarm, kAlarm, kOk, kOk, kOk, kOk, kOk}, kStart + 0.1);  // cool-down
-  Feed(policy, {kAlarm, kAlarm, kAlarm, kOk, kOk}, kStart + 1.0 / 3.0, {9});  // active, 2 oks
+  Feed(policy, {kAlarm, kAlarm, kAlarm, kOk, kOk}, kStart + 1.0 / 3.0, {9});      // active, 2 oks
   Feed(policy, {kAlarm}, kStart, {11});  // a run of one alarm
   const nlohmann::json state = policy.ToJson();
   ASSERT_EQ(state["keys"].size(), 3u);

@@ -42,9 +42,7 @@ class RecordingFileSystem final : public FileSystem {
       const std::filesystem::path& directory) override {
     return real_.ListDirectory(directory);
   }
-  Result<SpaceInfo> Space(const std::filesystem::path& path) override {
-    return real_.Space(path);
-  }
+  Result<SpaceInfo> Space(const std::filesystem::path& path) override { return real_.Space(path); }
 
   std::vector<std::filesystem::path> opened;
   std::vector<std::pair<std::filesystem::path, std::filesystem::path>> renamed;
@@ -117,9 +115,9 @@ TEST(AlertWriter, FileHoldsEveryRequiredFieldAndWasRenamedIntoPlace) {
   ASSERT_TRUE(text.ok());
   EXPECT_NE(text->find("\n  \"caution\""), std::string::npos) << "not pretty-printed";
   const nlohmann::json json = nlohmann::json::parse(*text);
-  for (const char* field : {"event", "kind", "severity", "time", "since", "clusters",
-                            "statistic", "statistic_name", "threshold", "message",
-                            "what_to_check", "caution", "station", "sequence"}) {
+  for (const char* field :
+       {"event", "kind", "severity", "time", "since", "clusters", "statistic", "statistic_name",
+        "threshold", "message", "what_to_check", "caution", "station", "sequence"}) {
     EXPECT_TRUE(json.contains(field)) << field;
   }
   EXPECT_EQ(json["time"], "2026-12-02T00:01:00Z");
@@ -142,8 +140,7 @@ TEST(AlertWriter, HostileLabelMessageAndStationDoNotChangeTheFileName) {
   EXPECT_EQ(path->parent_path(), scratch.path());
   auto text = fs.ReadFile(*path, 1 << 20);
   ASSERT_TRUE(text.ok());
-  EXPECT_EQ(nlohmann::json::parse(*text)["clusters"][0]["label"],
-            "../../etc/passwd\n\"; rm -rf /");
+  EXPECT_EQ(nlohmann::json::parse(*text)["clusters"][0]["label"], "../../etc/passwd\n\"; rm -rf /");
 }
 
 TEST(AlertWriter, RefusesEventOrKindThatIsNotALowerCaseWord) {
@@ -152,8 +149,7 @@ TEST(AlertWriter, RefusesEventOrKindThatIsNotALowerCaseWord) {
   ASSERT_TRUE(writer.ok());
   EXPECT_EQ(writer->Write(Event(1, kDay, "raised", "../x")).status().code(),
             StatusCode::kInvalidArgument);
-  EXPECT_EQ(writer->Write(Event(1, kDay, "Raised")).status().code(),
-            StatusCode::kInvalidArgument);
+  EXPECT_EQ(writer->Write(Event(1, kDay, "Raised")).status().code(), StatusCode::kInvalidArgument);
   EXPECT_EQ(writer->Write(Event(1, kDay, "raised", "")).status().code(),
             StatusCode::kInvalidArgument);
   auto entries = PosixFileSystem::Instance().ListDirectory(scratch.path());

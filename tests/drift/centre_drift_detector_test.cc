@@ -133,18 +133,17 @@ TEST(CentreDriftDetector, RefusesWrongDimensionsAndSpreads) {
   EXPECT_EQ(detector->SetBaseline({{1, {0, 0}, 0}}).code(), StatusCode::kInvalidArgument);
   EXPECT_EQ(detector->SetBaseline({{1, {0, 0}, 1}, {2, {0}, 1}}).code(),
             StatusCode::kInvalidArgument);
-  EXPECT_EQ(detector->SetBaseline({{1, {0}, 1}, {1, {0}, 1}}).code(),
-            StatusCode::kInvalidArgument);
+  EXPECT_EQ(detector->SetBaseline({{1, {0}, 1}, {1, {0}, 1}}).code(), StatusCode::kInvalidArgument);
   ASSERT_TRUE(detector->SetBaseline(Baseline()).ok());
-  EXPECT_EQ(detector->Evaluate({{1, {0, 0}, 0.5}}).status().code(),
-            StatusCode::kInvalidArgument);
+  EXPECT_EQ(detector->Evaluate({{1, {0, 0}, 0.5}}).status().code(), StatusCode::kInvalidArgument);
 }
 
 TEST(CentreDriftDetector, StateRoundTripsExactlyThroughText) {
   auto detector = CentreDriftDetector::Create({});
   ASSERT_TRUE(detector.ok());
-  ASSERT_TRUE(detector->SetBaseline({{7, {0.1 + 0.2, -1.0 / 3.0}, std::sqrt(2.0)},
-                                     {3, {1e-17, 123456.789}, 0.7}})
+  ASSERT_TRUE(detector
+                  ->SetBaseline(
+                      {{7, {0.1 + 0.2, -1.0 / 3.0}, std::sqrt(2.0)}, {3, {1e-17, 123456.789}, 0.7}})
                   .ok());
   const nlohmann::json state = detector->ToJson();
   auto restored = CentreDriftDetector::FromJson(nlohmann::json::parse(state.dump()), {});

@@ -46,8 +46,7 @@ TEST(CompositionDetector, TinyPValueWithSmallEffectDoesNotAlarm) {
   EXPECT_NEAR(reading->statistic, jsd, 1e-12);
   EXPECT_EQ(reading->threshold, 0.03);
   EXPECT_NE(reading->what_changed.find("G = 29.97"), std::string::npos) << reading->what_changed;
-  EXPECT_NE(reading->what_changed.find("p = 1.4e-06"), std::string::npos)
-      << reading->what_changed;
+  EXPECT_NE(reading->what_changed.find("p = 1.4e-06"), std::string::npos) << reading->what_changed;
 }
 
 // A strong change on the same baseline: [400,300,200,100] -> [100,150,250,500],

@@ -98,8 +98,7 @@ TEST(ContingencyTests, SingleNonEmptyColumnHasNoEvidenceOfChange) {
 }
 
 TEST(ContingencyTests, RefusesMismatchedNegativeOrEmptyRows) {
-  EXPECT_EQ(ChiSquareHomogeneity({1, 2}, {1, 2, 3}).status().code(),
-            StatusCode::kInvalidArgument);
+  EXPECT_EQ(ChiSquareHomogeneity({1, 2}, {1, 2, 3}).status().code(), StatusCode::kInvalidArgument);
   EXPECT_EQ(GTestHomogeneity({1, -2}, {1, 2}).status().code(), StatusCode::kInvalidArgument);
   auto empty = GTestHomogeneity({0, 0}, {1, 2});
   ASSERT_FALSE(empty.ok());
@@ -134,9 +133,8 @@ TEST(PopulationStabilityIndex, MatchesReferenceValue) {
 TEST(PopulationStabilityIndex, EmptyCategoryIsGuardedByTheShareFloor) {
   // p = (1, 0), q = (0.5, 0.5): p's empty share is raised to 1e-4, so
   // PSI = (0.5 − 1)·ln(0.5) + (0.5 − 1e-4)·ln(0.5 / 1e-4).
-  const double expected =
-      -0.5 * std::log(0.5) + (0.5 - kPopulationStabilityShareFloor) *
-                                 std::log(0.5 / kPopulationStabilityShareFloor);
+  const double expected = -0.5 * std::log(0.5) + (0.5 - kPopulationStabilityShareFloor) *
+                                                     std::log(0.5 / kPopulationStabilityShareFloor);
   auto psi = PopulationStabilityIndex({10, 0}, {5, 5});
   ASSERT_TRUE(psi.ok());
   EXPECT_NEAR(*psi, expected, 1e-12);
