@@ -285,17 +285,6 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
     }
     if (IsBlank(line)) continue;
     ++parsed.data_rows;
-    if (!reserved) {
-      // Sized from the first data row; the vectors still grow if later rows are shorter.
-      const auto remaining = static_cast<std::size_t>(end - line_start);
-      const std::size_t estimate =
-          remaining / (line.size() + 1) + remaining / (8 * (line.size() + 1)) + 1;
-      batch.line.reserve(estimate);
-      batch.time_seconds.reserve(estimate);
-      batch.sample_index.reserve(estimate);
-      batch.values.reserve(estimate * dims);
-      reserved = true;
-    }
     if (!SplitFields(line, input_.delimiter, &fields, &scratch)) {
       reject(RejectReason::kFieldCount,
              "a quoted field is not closed, or text follows its closing quote");
@@ -338,6 +327,18 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
       sample = samples.Intern(id);
     }
     if (layout.volume && !batch.samples[sample].volume_ml) batch.samples[sample].volume_ml = volume;
+    if (!reserved) {
+      // Sized from the first accepted row (a rejected one may be far shorter than the
+      // rest); the vectors still grow if later rows are shorter.
+      const auto remaining = static_cast<std::size_t>(end - line_start);
+      const std::size_t estimate =
+          remaining / (line.size() + 1) + remaining / (8 * (line.size() + 1)) + 1;
+      batch.line.reserve(estimate);
+      batch.time_seconds.reserve(estimate);
+      batch.sample_index.reserve(estimate);
+      batch.values.reserve(estimate * dims);
+      reserved = true;
+    }
     batch.line.push_back(line_number);
     batch.time_seconds.push_back(time);
     batch.sample_index.push_back(sample);
