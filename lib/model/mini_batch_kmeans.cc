@@ -29,10 +29,12 @@ Status CheckOptions(const ModelOptions& options) {
   const auto fail = [](const std::string& what) {
     return Status::InvalidArgument("model options: " + what);
   };
-  if (options.k < 0)
+  if (options.k < 0) {
     return fail("k must be 0 (auto) or at least 1, got " + std::to_string(options.k));
-  if (options.restarts < 1)
+  }
+  if (options.restarts < 1) {
     return fail("restarts must be at least 1, got " + std::to_string(options.restarts));
+  }
   if (options.max_iterations < 1) {
     return fail("max_iterations must be at least 1, got " + std::to_string(options.max_iterations));
   }
@@ -120,7 +122,8 @@ Result<MiniBatchKMeans> MiniBatchKMeans::Create(const ModelOptions& options,
   return model;
 }
 
-void MiniBatchKMeans::AssignToActive(const RowMatrix& points, const std::vector<Cluster*>& active,
+void MiniBatchKMeans::AssignToActive(const RowMatrix& points,
+                                     const std::vector<const Cluster*>& active,
                                      std::vector<int>* nearest,
                                      std::vector<double>* squared_distance) const {
   if (active.empty()) return;

@@ -84,12 +84,12 @@ class MiniBatchKMeans {
                     std::vector<std::uint32_t>* ids, std::vector<double>* distances,
                     std::span<const double> row_seconds = {});
 
-  // Active and retired clusters, in order of id.
   // Nearest active centre and novelty test as in ProcessBatch, without decay, update or
   // novelty buffer: for particles that already shaped the fit (the warm-up sample).
   void Classify(const RowMatrix& points, std::vector<std::uint32_t>* ids,
                 std::vector<double>* distances) const;
 
+  // Active and retired clusters, in order of id.
   const std::vector<Cluster>& clusters() const { return clusters_; }
   const Cluster* FindCluster(std::uint32_t id) const;
   int active_count() const;

@@ -2,6 +2,7 @@
 
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <random>
@@ -253,6 +254,27 @@ TEST(MiniBatchKMeans, QuantileOneMeansNoNovelty) {
   model.ProcessBatch(far, 1, 1, &ids, &distances);
   EXPECT_NE(ids[0], 0u);
   EXPECT_TRUE(model.novelty_buffer().empty());
+}
+
+TEST(MiniBatchKMeans, ClassifyGivesProcessBatchIdsWithoutChangingTheModel) {
+  RowMatrix points;
+  std::vector<int> truth;
+  testing::DrawGaussianMixture(FiveMeans(), 1.0, 3000, 83, &points, &truth);
+  ModelOptions options;
+  options.k = 5;
+  options.restarts = 2;
+  options.novelty_quantile = 0.9;  // many unclassified rows, so id 0 is exercised too
+  MiniBatchKMeans model = CreateOrDie(options, points.topRows(1000), 10);
+  const std::string before = model.ToJson().dump();
+  const RowMatrix batch = points.bottomRows(2000);
+  std::vector<std::uint32_t> classified, processed;
+  std::vector<double> classified_distances, processed_distances;
+  model.Classify(batch, &classified, &classified_distances);
+  EXPECT_EQ(model.ToJson().dump(), before);
+  EXPECT_GT(std::count(classified.begin(), classified.end(), 0u), 0);
+  model.ProcessBatch(batch, 11, 20, &processed, &processed_distances);
+  EXPECT_EQ(classified, processed);  // both use the centres as they stood before the batch
+  EXPECT_EQ(classified_distances, processed_distances);
 }
 
 TEST(MiniBatchKMeans, IdsAreNeverReusedAndRetiredClustersTakeNoPoints) {
