@@ -10,7 +10,6 @@
 #include <functional>
 #include <limits>
 #include <map>
-#include <nlohmann/json.hpp>
 #include <optional>
 #include <system_error>
 #include <utility>
@@ -181,19 +180,21 @@ std::optional<std::string> AddressFault(std::string_view text) {
   if (colon == std::string_view::npos) return "it has no :PORT";
   const std::string_view host = text.substr(0, colon);
   const std::string_view port = text.substr(colon + 1);
-  if (host.empty()) return std::nullopt;  // ":7460" is 127.0.0.1 to ingest and api alike
-  const bool bracketed = host.front() == '[';
+  // An empty host (":7460") is 127.0.0.1 to ingest and api alike.
+  const bool bracketed = !host.empty() && host.front() == '[';
   if (bracketed && (host.size() < 3 || host.back() != ']')) {
     return "an IPv6 host must be closed with ]";
   }
   if (!bracketed && host.find(':') != std::string_view::npos) {
     return "an IPv6 host must be written in brackets, e.g. [::1]:7460";
   }
-  boost::system::error_code error;
-  const boost::asio::ip::address address = boost::asio::ip::make_address(
-      std::string(bracketed ? host.substr(1, host.size() - 2) : host), error);
-  if (error || (bracketed && !address.is_v6())) {
-    return "the host must be an IP address such as 127.0.0.1, 0.0.0.0 or [::1], not a name";
+  if (!host.empty()) {
+    boost::system::error_code error;
+    const boost::asio::ip::address address = boost::asio::ip::make_address(
+        std::string(bracketed ? host.substr(1, host.size() - 2) : host), error);
+    if (error || (bracketed && !address.is_v6())) {
+      return "the host must be an IP address such as 127.0.0.1, 0.0.0.0 or [::1], not a name";
+    }
   }
   const std::optional<int> port_number = ParseInteger<int>(port);
   if (port.empty() || port.front() == '+' || !port_number || *port_number < 1 ||

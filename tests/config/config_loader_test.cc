@@ -471,7 +471,7 @@ TEST(ConfigLoader, BadListenAddressesAreErrors) {
       << port.message;
 
   for (const char* bad : {"127.0.0.1", "::1:7460", "localhost:7460", "127.0.0.1:0",
-                          "[127.0.0.1]:80", "10.0.0.1:+80"}) {
+                          "[127.0.0.1]:80", "10.0.0.1:+80", ":http"}) {
     const auto one = Check(std::string(kOneFeature) + "api: { listen: \"" + bad + "\" }\n");
     EXPECT_EQ(OnlyProblemAbout(one, "api.listen").line, 2) << bad;
   }
