@@ -16,8 +16,8 @@ Result<std::string> LoadApiToken(FileSystem& file_system, const std::string& pat
   for (char c : token) printable = printable && c > ' ' && c < 0x7F;
   if (!printable || token.size() < kMinCharacters || token.size() > kMaxCharacters) {
     return Status::InvalidArgument(
-        "token file " + path + ": the token must be " + std::to_string(kMinCharacters) +
-        " to " + std::to_string(kMaxCharacters) +
+        "token file " + path + ": the token must be " + std::to_string(kMinCharacters) + " to " +
+        std::to_string(kMaxCharacters) +
         " printable ASCII characters without spaces (e.g. from `openssl rand -hex 32`), got " +
         std::to_string(token.size()) + (printable ? " characters" : " with other characters"));
   }

@@ -18,28 +18,27 @@
 #pragma once
 
 #include <cstdint>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <utility>
 #include <vector>
 
-#include <nlohmann/json.hpp>
-
 namespace seston {
 
 struct HealthView {
-  std::string state;  // "warming-up" | "running" | "degraded"
-  double uptime_seconds = 0;                     // wall seconds since the daemon started
-  std::optional<double> last_particle_seconds;   // event time of the newest particle
-  std::uint64_t backlog_files = 0;               // input files waiting to be read
-  std::uint64_t backlog_records = 0;             // records queued between stages
-  std::string last_error;                        // first failure of a background duty; ""
-  std::uint64_t particles_accepted = 0;          // since start, all time
+  std::string state;                            // "warming-up" | "running" | "degraded"
+  double uptime_seconds = 0;                    // wall seconds since the daemon started
+  std::optional<double> last_particle_seconds;  // event time of the newest particle
+  std::uint64_t backlog_files = 0;              // input files waiting to be read
+  std::uint64_t backlog_records = 0;            // records queued between stages
+  std::string last_error;                       // first failure of a background duty; ""
+  std::uint64_t particles_accepted = 0;         // since start, all time
   std::uint64_t particles_rejected = 0;
   std::uint64_t particles_unclassified = 0;
   std::uint64_t files_done = 0;
   std::uint64_t files_quarantined = 0;
-  int k = 0;                                     // clusters in the model (0 before the fit)
+  int k = 0;  // clusters in the model (0 before the fit)
   std::string station;
   std::string version;
   std::optional<double> last_checkpoint_seconds;  // wall time of the last checkpoint

@@ -130,7 +130,8 @@ Result<HttpReply> HttpClient::Send(std::string_view method, std::string_view tar
   http::response_parser<http::string_body> parser;
   parser.body_limit(kMaxReplyBytes);
   c.stream.expires_after(c.timeout);
-  http::async_read(c.stream, c.buffer, parser, [&](beast::error_code e, std::size_t) { error = e; });
+  http::async_read(c.stream, c.buffer, parser,
+                   [&](beast::error_code e, std::size_t) { error = e; });
   c.RunAll();
   if (error) return c.Unreachable(error);
 

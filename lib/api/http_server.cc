@@ -100,16 +100,17 @@ class Session : public std::enable_shared_from_this<Session> {
       return;
     }
     if (error == http::error::body_limit) {
-      return WriteAndClose(ErrorResponse(
-          413, "the request body is larger than api.max_body_bytes = " +
-                   std::to_string(shared_->options.max_body_bytes) + " bytes"));
+      return WriteAndClose(
+          ErrorResponse(413, "the request body is larger than api.max_body_bytes = " +
+                                 std::to_string(shared_->options.max_body_bytes) + " bytes"));
     }
     if (error == http::error::header_limit) {
-      return WriteAndClose(ErrorResponse(
-          431, "the request headers are larger than api.max_header_bytes = " +
-                   std::to_string(shared_->options.max_header_bytes) + " bytes"));
+      return WriteAndClose(
+          ErrorResponse(431, "the request headers are larger than api.max_header_bytes = " +
+                                 std::to_string(shared_->options.max_header_bytes) + " bytes"));
     }
-    if (error.category() == http::make_error_code(http::error::body_limit).category()) {  // any other parse error
+    if (error.category() ==
+        http::make_error_code(http::error::body_limit).category()) {  // any other parse error
       return WriteAndClose(ErrorResponse(400, "malformed HTTP request: " + error.message()));
     }
     if (error) return;  // reset, aborted by Stop: nothing to answer
@@ -220,8 +221,8 @@ class HttpServer::Listener : public std::enable_shared_from_this<Listener> {
   Status Bind(const tcp::endpoint& endpoint, const std::string& listen) {
     beast::error_code error;
     auto failed = [&](std::string_view step) {
-      return Status::IoError("api.listen \"" + listen + "\": cannot " + std::string(step) +
-                             ": " + error.message());
+      return Status::IoError("api.listen \"" + listen + "\": cannot " + std::string(step) + ": " +
+                             error.message());
     };
     if (acceptor_.open(endpoint.protocol(), error)) return failed("open a socket");
     if (acceptor_.set_option(net::socket_base::reuse_address(true), error)) {

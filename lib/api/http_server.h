@@ -25,11 +25,10 @@
 // logged at debug level (peer, method, target, status), never its Authorization header.
 #pragma once
 
+#include <boost/asio/io_context.hpp>
 #include <cstdint>
 #include <memory>
 #include <string>
-
-#include <boost/asio/io_context.hpp>
 
 #include "api/api_backend.h"
 #include "api/api_options.h"
@@ -43,8 +42,8 @@ class HttpServer {
   // Start. InvalidArgument for bad options, IoError when the address cannot be bound.
   // `token` "" refuses every write (see Route).
   static Result<std::unique_ptr<HttpServer>> Create(boost::asio::io_context& io_context,
-                                                    const ApiOptions& options,
-                                                    ApiBackend& backend, std::string token);
+                                                    const ApiOptions& options, ApiBackend& backend,
+                                                    std::string token);
   ~HttpServer();  // Stops.
   HttpServer(const HttpServer&) = delete;
   HttpServer& operator=(const HttpServer&) = delete;

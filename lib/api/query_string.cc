@@ -42,8 +42,8 @@ std::string PercentEncode(std::string_view text) {
   constexpr char kHex[] = "0123456789ABCDEF";
   std::string out;
   for (char c : text) {
-    bool unreserved = (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') ||
-                      (c >= '0' && c <= '9') || c == '-' || c == '.' || c == '_' || c == '~';
+    bool unreserved = (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || (c >= '0' && c <= '9') ||
+                      c == '-' || c == '.' || c == '_' || c == '~';
     if (unreserved) {
       out.push_back(c);
     } else {

@@ -82,22 +82,20 @@ std::optional<HttpResponse> CheckToken(const HttpRequest& request, const std::st
   }
   auto unauthorized = [](std::string_view message, std::string_view error) {
     HttpResponse response = ErrorResponse(401, message);
-    response.headers.emplace_back("WWW-Authenticate",
-                                  std::string(kChallenge) + ", error=\"" + std::string(error) +
-                                      "\"");
+    response.headers.emplace_back(
+        "WWW-Authenticate", std::string(kChallenge) + ", error=\"" + std::string(error) + "\"");
     return response;
   };
   if (request.authorization.empty()) {
-    HttpResponse response = ErrorResponse(
-        401, "this request changes state and needs \"Authorization: Bearer TOKEN\"");
+    HttpResponse response =
+        ErrorResponse(401, "this request changes state and needs \"Authorization: Bearer TOKEN\"");
     response.headers.emplace_back("WWW-Authenticate", std::string(kChallenge));
     return response;
   }
   std::string_view header = request.authorization;
   std::size_t space = header.find(' ');
   if (space == std::string_view::npos || ToLower(header.substr(0, space)) != "bearer") {
-    return unauthorized("the Authorization header must read \"Bearer TOKEN\"",
-                        "invalid_request");
+    return unauthorized("the Authorization header must read \"Bearer TOKEN\"", "invalid_request");
   }
   std::string_view presented = header.substr(space);
   presented.remove_prefix(std::min(presented.find_first_not_of(' '), presented.size()));
@@ -121,8 +119,8 @@ std::optional<HttpResponse> CheckParameters(const QueryParameters& parameters,
   for (std::string_view name : allowed) {
     accepted += (accepted.empty() ? "" : ", ") + std::string(name);
   }
-  return ErrorResponse(400, "unknown query parameter " + unknown + "; accepted here: " +
-                                (accepted.empty() ? "none" : accepted));
+  return ErrorResponse(400, "unknown query parameter " + unknown +
+                                "; accepted here: " + (accepted.empty() ? "none" : accepted));
 }
 
 // The code point starting at text[i], advancing i past it; nullopt for invalid UTF-8
@@ -158,11 +156,11 @@ std::string LabelProblem(std::string_view label) {
     std::optional<std::uint32_t> code = NextCodePoint(label, i);
     if (!code) return "label is not valid UTF-8 (at byte " + std::to_string(i) + ")";
     ++characters;
-    bool control = *code < 0x20 || (*code >= 0x7F && *code <= 0x9F) || *code == 0x2028 ||
-                   *code == 0x2029;
+    bool control =
+        *code < 0x20 || (*code >= 0x7F && *code <= 0x9F) || *code == 0x2028 || *code == 0x2029;
     if (control) {
-      return "label must not contain control characters (character " +
-             std::to_string(characters) + ")";
+      return "label must not contain control characters (character " + std::to_string(characters) +
+             ")";
     }
   }
   if (characters == 0 || characters > kMaxLabelCharacters) {
@@ -176,7 +174,8 @@ std::string LabelProblem(std::string_view label) {
 }
 
 HttpResponse RootPage() {
-  return {200, "text/html; charset=utf-8",
+  return {200,
+          "text/html; charset=utf-8",
           "<!doctype html><title>sestond</title><p>sestond is running: see "
           "<a href=\"/v1/health\">/v1/health</a>.</p>\n",
           {}};
@@ -189,8 +188,9 @@ HttpResponse Counts(const QueryParameters& parameters, ApiBackend& backend) {
     Result<double> seconds = ParseDurationSeconds(it->second);
     if (!seconds.ok()) return ErrorResponse(400, "window: " + seconds.status().message());
     if (*seconds > kMaxCountWindowSeconds) {
-      return ErrorResponse(400, "window \"" + it->second + "\" is longer than the 400 days "
-                                "a query may span");
+      return ErrorResponse(400, "window \"" + it->second +
+                                    "\" is longer than the 400 days "
+                                    "a query may span");
     }
     window = *seconds;
   }
@@ -199,14 +199,16 @@ HttpResponse Counts(const QueryParameters& parameters, ApiBackend& backend) {
     if (it == parameters.end()) continue;
     *slot = ParseEventTime(it->second);
     if (!*slot) {
-      return ErrorResponse(400, std::string(name) + " must be an ISO 8601 UTC time such as "
-                                "2026-12-02T03:04:05Z, or epoch seconds, got \"" +
+      return ErrorResponse(400, std::string(name) +
+                                    " must be an ISO 8601 UTC time such as "
+                                    "2026-12-02T03:04:05Z, or epoch seconds, got \"" +
                                     it->second + "\"");
     }
   }
   if (window && from) {
-    return ErrorResponse(400, "give either window or from, not both: window counts back "
-                              "from to (or from the latest particle)");
+    return ErrorResponse(400,
+                         "give either window or from, not both: window counts back "
+                         "from to (or from the latest particle)");
   }
   if (from && to) {
     if (*from >= *to) return ErrorResponse(400, "from must be earlier than to");
@@ -223,8 +225,9 @@ HttpResponse SetLabel(std::uint32_t id, const HttpRequest& request, ApiBackend& 
   nlohmann::json body = nlohmann::json::parse(request.body, nullptr, /*allow_exceptions=*/false);
   if (!body.is_object() || !body.contains("label") || !body["label"].is_string() ||
       body.size() != 1) {
-    return ErrorResponse(400, "the body must be a JSON object {\"label\": \"NAME\"} and "
-                              "nothing else");
+    return ErrorResponse(400,
+                         "the body must be a JSON object {\"label\": \"NAME\"} and "
+                         "nothing else");
   }
   std::string label = body["label"].get<std::string>();
   if (std::string problem = LabelProblem(label); !problem.empty()) {
@@ -315,8 +318,7 @@ HttpResponse RouteOrThrow(const HttpRequest& request, ApiBackend& backend,
 }  // namespace
 
 HttpResponse ErrorResponse(int status, std::string_view message) {
-  return JsonResponse(status,
-                      {{"error", {{"status", status}, {"message", std::string(message)}}}});
+  return JsonResponse(status, {{"error", {{"status", status}, {"message", std::string(message)}}}});
 }
 
 HttpResponse Route(const HttpRequest& request, ApiBackend& backend, const std::string& token) {

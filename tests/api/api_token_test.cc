@@ -28,9 +28,9 @@ TEST_F(ApiTokenTest, TrimsSurroundingWhitespace) {
 }
 
 TEST_F(ApiTokenTest, RejectsShortSpacedOrEmptyTokensNamingTheFile) {
-  for (const std::string& content : {std::string("short\n"), std::string("two words but long\n"),
-                                     std::string("\n"), std::string("tab\tinside-long-token"),
-                                     std::string(5000, 'a')}) {
+  for (const std::string& content :
+       {std::string("short\n"), std::string("two words but long\n"), std::string("\n"),
+        std::string("tab\tinside-long-token"), std::string(5000, 'a')}) {
     std::string path = Write(content);
     Result<std::string> token = LoadApiToken(PosixFileSystem::Instance(), path);
     ASSERT_FALSE(token.ok()) << content;

@@ -14,8 +14,8 @@ TEST(ParseHostPort, AcceptsIpv4Ipv6NamesAndEmptyHost) {
 }
 
 TEST(ParseHostPort, RejectsMissingOrBadPortAndBareIpv6) {
-  for (const char* text : {"127.0.0.1", "127.0.0.1:", "127.0.0.1:65536", "host:http", "::1:80",
-                           "[::1:80", "[]:80"}) {
+  for (const char* text :
+       {"127.0.0.1", "127.0.0.1:", "127.0.0.1:65536", "host:http", "::1:80", "[::1:80", "[]:80"}) {
     Result<HostPort> parsed = ParseHostPort(text);
     ASSERT_FALSE(parsed.ok()) << text;
     EXPECT_NE(parsed.status().message().find("HOST:PORT"), std::string::npos);

@@ -52,8 +52,8 @@ RawResult SendRawAndWaitForClose(std::uint16_t port, const std::string& bytes, d
       result.closed_by_server = error != beast::error::timeout;
     });
   };
-  stream.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
-      Seconds(limit)));
+  stream.expires_after(
+      std::chrono::duration_cast<std::chrono::steady_clock::duration>(Seconds(limit)));
   read_more();
   io_context.run();
   result.seconds = Seconds(std::chrono::steady_clock::now() - start).count();
@@ -131,9 +131,7 @@ TEST(HttpServer, OversizedHeadersAreRefusedWith431) {
 
 TEST(HttpServer, MalformedRequestGets400AndClose) {
   Harness harness(ShortTimeouts());
-  RawResult result = SendRawAndWaitForClose(
-      harness.port(),
-      "NOT A REQUEST AT ALL\r\n\r\n", 5);
+  RawResult result = SendRawAndWaitForClose(harness.port(), "NOT A REQUEST AT ALL\r\n\r\n", 5);
   EXPECT_TRUE(result.received.starts_with("HTTP/1.1 400")) << result.received;
   EXPECT_TRUE(result.closed_by_server);
 }
@@ -141,9 +139,8 @@ TEST(HttpServer, MalformedRequestGets400AndClose) {
 TEST(HttpServer, SlowClientIsDisconnectedAfterTheRequestTimeout) {
   Harness harness(ShortTimeouts());
   // Half a request: the request line and one header, never the blank line.
-  RawResult result = SendRawAndWaitForClose(
-      harness.port(),
-      "GET /v1/health HTTP/1.1\r\nHost: x\r\n", 5);
+  RawResult result =
+      SendRawAndWaitForClose(harness.port(), "GET /v1/health HTTP/1.1\r\nHost: x\r\n", 5);
   EXPECT_TRUE(result.closed_by_server);
   EXPECT_TRUE(result.received.empty()) << result.received;
   EXPECT_GE(result.seconds, 0.4);

@@ -18,9 +18,7 @@ HttpResponse Get(FakeBackend& backend, const std::string& target) {
   return Route({"GET", target, "", ""}, backend, kToken);
 }
 
-nlohmann::json Body(const HttpResponse& response) {
-  return nlohmann::json::parse(response.body);
-}
+nlohmann::json Body(const HttpResponse& response) { return nlohmann::json::parse(response.body); }
 
 std::string ErrorMessage(const HttpResponse& response) {
   return Body(response)["error"]["message"].get<std::string>();
@@ -36,10 +34,9 @@ std::optional<std::string> HeaderOf(const HttpResponse& response, const std::str
 class RouterTest : public ::testing::Test {
  protected:
   RouterTest() {
-    backend.clusters = {{3, "", 120, {{"esd_um", 12.5}, {"aspect", 0.8}}, 0.9,
-                         kDecemberSecond2025, false},
-                        {4, "diatom chains", 7, {{"esd_um", 40.0}}, 1.1, kDecemberSecond2025 + 60,
-                         true}};
+    backend.clusters = {
+        {3, "", 120, {{"esd_um", 12.5}, {"aspect", 0.8}}, 0.9, kDecemberSecond2025, false},
+        {4, "diatom chains", 7, {{"esd_um", 40.0}}, 1.1, kDecemberSecond2025 + 60, true}};
   }
 
   HttpResponse PutLabel(const std::string& id, const std::string& body,
@@ -52,8 +49,9 @@ class RouterTest : public ::testing::Test {
 };
 
 TEST_F(RouterTest, HealthHasEveryFieldWithIsoTimesAndNulls) {
-  backend.health = {"running", 12.5, kDecemberSecond2025, 2, 300, "", 1000, 7, 12, 40, 1, 6,
-                    "Skerry Sound mooring B", "0.1.0", std::nullopt};
+  backend.health = {
+      "running", 12.5, kDecemberSecond2025,      2,       300,         "", 1000, 7, 12, 40,
+      1,         6,    "Skerry Sound mooring B", "0.1.0", std::nullopt};
   HttpResponse response = Get(backend, "/v1/health");
   ASSERT_EQ(response.status, 200);
   EXPECT_EQ(response.content_type, "application/json");
@@ -102,8 +100,8 @@ TEST_F(RouterTest, CountsWithoutParametersLeavesTheWindowToTheBackend) {
 }
 
 TEST_F(RouterTest, CountsFromToAreParsedAsIsoOrPercentEncoded) {
-  HttpResponse response = Get(
-      backend, "/v1/counts?from=2025-12-02T00:00:00Z&to=2025-12-02T01%3A00%3A00.5%2B00%3A00");
+  HttpResponse response =
+      Get(backend, "/v1/counts?from=2025-12-02T00:00:00Z&to=2025-12-02T01%3A00%3A00.5%2B00%3A00");
   ASSERT_EQ(response.status, 200) << response.body;
   ASSERT_EQ(backend.counts_calls.size(), 1u);
   EXPECT_EQ(backend.counts_calls[0].from, kDecemberSecond2025);
@@ -157,17 +155,22 @@ TEST_F(RouterTest, UnknownParametersAreNamed) {
 }
 
 TEST_F(RouterTest, CountsJsonShapeAndNullConcentrations) {
-  backend.counts = {kDecemberSecond2025, kDecemberSecond2025 + 3600,
+  backend.counts = {kDecemberSecond2025,
+                    kDecemberSecond2025 + 3600,
                     {{3, "", 30, 1.5}, {4, "diatom chains", 0, std::nullopt}},
-                    5, 0.25, 2, 20.0, 35};
+                    5,
+                    0.25,
+                    2,
+                    20.0,
+                    35};
   nlohmann::json counts = Body(Get(backend, "/v1/counts?window=1h"));
   EXPECT_EQ(counts["from"], "2025-12-02T00:00:00Z");
   EXPECT_EQ(counts["to"], "2025-12-02T01:00:00Z");
   EXPECT_EQ(counts["window_seconds"], 3600.0);
   ASSERT_EQ(counts["clusters"].size(), 2u);
-  EXPECT_EQ(counts["clusters"][0],
-            (nlohmann::json{{"id", 3}, {"label", ""}, {"count", 30},
-                            {"concentration_per_ml", 1.5}}));
+  EXPECT_EQ(
+      counts["clusters"][0],
+      (nlohmann::json{{"id", 3}, {"label", ""}, {"count", 30}, {"concentration_per_ml", 1.5}}));
   EXPECT_TRUE(counts["clusters"][1]["concentration_per_ml"].is_null());
   EXPECT_EQ(counts["unclassified"], 5);
   EXPECT_EQ(counts["unclassified_per_ml"], 0.25);
@@ -300,9 +303,9 @@ TEST_F(RouterTest, BaselineNeedsTokenAndReportsBackendState) {
 
 TEST_F(RouterTest, WrongMethodIsNotAllowedWithAllowHeader) {
   const std::tuple<const char*, const char*, const char*> cases[] = {
-      {"POST", "/v1/health", "GET"},          {"DELETE", "/v1/counts", "GET"},
-      {"GET", "/v1/baseline", "POST"},        {"GET", "/v1/clusters/3/label", "PUT"},
-      {"PUT", "/v1/clusters", "GET"},         {"POST", "/metrics", "GET"},
+      {"POST", "/v1/health", "GET"},   {"DELETE", "/v1/counts", "GET"},
+      {"GET", "/v1/baseline", "POST"}, {"GET", "/v1/clusters/3/label", "PUT"},
+      {"PUT", "/v1/clusters", "GET"},  {"POST", "/metrics", "GET"},
   };
   for (const auto& [method, target, allow] : cases) {
     HttpResponse response = Route({method, target, "", ""}, backend, kToken);

@@ -1,6 +1,6 @@
-#include "sestonctl/tables.h"
-
 #include <gtest/gtest.h>
+
+#include "sestonctl/tables.h"
 
 namespace seston::ctl {
 namespace {
@@ -16,8 +16,8 @@ TEST(FormatTable, PadsColumnsAndAlignsNumbersRight) {
 
 TEST(FormatTable, CountsCodePointsNotBytesForWidth) {
   // "é" is two bytes in UTF-8 but one column on a terminal.
-  std::string table = FormatTable({{"label"}, {"n", Align::kRight}}, {{"\xC3\xA9t\xC3\xA9", "1"},
-                                                                       {"abcd", "2"}});
+  std::string table =
+      FormatTable({{"label"}, {"n", Align::kRight}}, {{"\xC3\xA9t\xC3\xA9", "1"}, {"abcd", "2"}});
   EXPECT_EQ(table,
             "label  n\n"
             "\xC3\xA9t\xC3\xA9    1\n"
@@ -47,13 +47,17 @@ TEST(FormatDuration, PicksTheTwoLargestUnits) {
 
 TEST(FormatCounts, ShowsWindowUnitsAndRows) {
   nlohmann::json counts = {
-      {"from", "2025-12-02T00:00:00Z"}, {"to", "2025-12-02T01:00:00Z"},
+      {"from", "2025-12-02T00:00:00Z"},
+      {"to", "2025-12-02T01:00:00Z"},
       {"window_seconds", 3600.0},
       {"clusters",
        {{{"id", 3}, {"label", ""}, {"count", 30}, {"concentration_per_ml", 1.5}},
         {{"id", 4}, {"label", "diatom chains"}, {"count", 0}, {"concentration_per_ml", nullptr}}}},
-      {"unclassified", 5}, {"unclassified_per_ml", 0.25}, {"rejected", 2},
-      {"volume_ml", 20.0}, {"total", 35}};
+      {"unclassified", 5},
+      {"unclassified_per_ml", 0.25},
+      {"rejected", 2},
+      {"volume_ml", 20.0},
+      {"total", 35}};
   EXPECT_EQ(FormatCounts(counts),
             "window 2025-12-02T00:00:00Z to 2025-12-02T01:00:00Z (1 h), 20 mL analysed\n"
             "\n"
@@ -66,17 +70,18 @@ TEST(FormatCounts, ShowsWindowUnitsAndRows) {
 }
 
 TEST(FormatStatus, ListsEveryHealthField) {
-  nlohmann::json health = {{"state", "running"},
-                           {"uptime_seconds", 7380.0},
-                           {"last_particle_time", "2025-12-02T00:00:00Z"},
-                           {"backlog", {{"files", 2}, {"records", 300}}},
-                           {"last_error", ""},
-                           {"particles", {{"accepted", 1000}, {"rejected", 7}, {"unclassified", 12}}},
-                           {"files", {{"done", 40}, {"quarantined", 1}}},
-                           {"k", 6},
-                           {"station", "Skerry Sound mooring B"},
-                           {"version", "0.1.0"},
-                           {"last_checkpoint_time", nullptr}};
+  nlohmann::json health = {
+      {"state", "running"},
+      {"uptime_seconds", 7380.0},
+      {"last_particle_time", "2025-12-02T00:00:00Z"},
+      {"backlog", {{"files", 2}, {"records", 300}}},
+      {"last_error", ""},
+      {"particles", {{"accepted", 1000}, {"rejected", 7}, {"unclassified", 12}}},
+      {"files", {{"done", 40}, {"quarantined", 1}}},
+      {"k", 6},
+      {"station", "Skerry Sound mooring B"},
+      {"version", "0.1.0"},
+      {"last_checkpoint_time", nullptr}};
   EXPECT_EQ(FormatStatus(health),
             "station          Skerry Sound mooring B\n"
             "state            running\n"
@@ -92,31 +97,41 @@ TEST(FormatStatus, ListsEveryHealthField) {
 }
 
 TEST(FormatClusters, ShowsCentreAndStateAndHandlesEmpty) {
-  nlohmann::json clusters = {
-      {"clusters",
-       {{{"id", 3}, {"label", "ciliates"}, {"count", 120},
-         {"centre", {{"esd_um", 12.5}, {"aspect", 0.8}}}, {"spread", 0.9},
-         {"born_time", "2025-12-02T00:00:00Z"}, {"retired", false}},
-        {{"id", 4}, {"label", ""}, {"count", 7}, {"centre", nlohmann::json::object()},
-         {"spread", 1.25}, {"born_time", "2025-12-02T00:01:00Z"}, {"retired", true}}}}};
-  EXPECT_EQ(FormatClusters(clusters),
-            "id  label         count  spread  born (UTC)            state    centre (input units)\n"
-            " 3  ciliates        120     0.9  2025-12-02T00:00:00Z  active   aspect=0.8 esd_um=12.5\n"
-            " 4  (unlabelled)      7    1.25  2025-12-02T00:01:00Z  retired  -\n");
+  nlohmann::json clusters = {{"clusters",
+                              {{{"id", 3},
+                                {"label", "ciliates"},
+                                {"count", 120},
+                                {"centre", {{"esd_um", 12.5}, {"aspect", 0.8}}},
+                                {"spread", 0.9},
+                                {"born_time", "2025-12-02T00:00:00Z"},
+                                {"retired", false}},
+                               {{"id", 4},
+                                {"label", ""},
+                                {"count", 7},
+                                {"centre", nlohmann::json::object()},
+                                {"spread", 1.25},
+                                {"born_time", "2025-12-02T00:01:00Z"},
+                                {"retired", true}}}}};
+  EXPECT_EQ(
+      FormatClusters(clusters),
+      "id  label         count  spread  born (UTC)            state    centre (input units)\n"
+      " 3  ciliates        120     0.9  2025-12-02T00:00:00Z  active   aspect=0.8 esd_um=12.5\n"
+      " 4  (unlabelled)      7    1.25  2025-12-02T00:01:00Z  retired  -\n");
   EXPECT_EQ(FormatClusters({{"clusters", nlohmann::json::array()}}),
             "no clusters yet (the model is still warming up)\n");
 }
 
 TEST(FormatAlerts, ListsActiveWithAdviceAndRecent) {
-  nlohmann::json alert = {{"sequence", 12},
-                          {"event", "raised"},
-                          {"kind", "composition"},
-                          {"severity", "alarm"},
-                          {"time", "2025-12-02T01:00:00Z"},
-                          {"since", "2025-12-02T00:40:00Z"},
-                          {"clusters", {{{"id", 3}, {"label", "ciliates"}}, {{"id", 5}, {"label", ""}}}},
-                          {"message", "cluster 3 doubled"},
-                          {"what_to_check", "look at a few images"}};
+  nlohmann::json alert = {
+      {"sequence", 12},
+      {"event", "raised"},
+      {"kind", "composition"},
+      {"severity", "alarm"},
+      {"time", "2025-12-02T01:00:00Z"},
+      {"since", "2025-12-02T00:40:00Z"},
+      {"clusters", {{{"id", 3}, {"label", "ciliates"}}, {{"id", 5}, {"label", ""}}}},
+      {"message", "cluster 3 doubled"},
+      {"what_to_check", "look at a few images"}};
   std::string text = FormatAlerts({{"active", {alert}}, {"recent", nlohmann::json::array()}});
   EXPECT_EQ(text,
             "active alerts: 1\n"
@@ -130,8 +145,7 @@ TEST(FormatAlerts, ListsActiveWithAdviceAndRecent) {
 }
 
 TEST(FormatAlerts, ToleratesMissingFields) {
-  EXPECT_EQ(FormatAlerts(nlohmann::json::object()),
-            "active alerts: 0\n\nrecently resolved: 0\n");
+  EXPECT_EQ(FormatAlerts(nlohmann::json::object()), "active alerts: 0\n\nrecently resolved: 0\n");
   std::string text = FormatAlerts({{"recent", {{{"kind", "novelty"}}}}});
   EXPECT_NE(text.find("recently resolved: 1\n"), std::string::npos);
   EXPECT_NE(text.find("-  -         novelty  -"), std::string::npos) << text;

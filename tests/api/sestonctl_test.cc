@@ -39,8 +39,7 @@ ApiOptions Options() {
 // A port on 127.0.0.1 where nothing listens (bound once, then released).
 std::uint16_t ClosedPort() {
   boost::asio::io_context io_context;
-  boost::asio::ip::tcp::acceptor probe(
-      io_context, {boost::asio::ip::make_address("127.0.0.1"), 0});
+  boost::asio::ip::tcp::acceptor probe(io_context, {boost::asio::ip::make_address("127.0.0.1"), 0});
   return probe.local_endpoint().port();
 }
 
@@ -81,7 +80,7 @@ TEST_F(SestonctlTest, CountsPassesWindowAndEncodedTimes) {
   ASSERT_EQ(window.exit_code, kExitOk) << window.err;
   EXPECT_NE(window.out.find("conc. /mL"), std::string::npos);
   Outcome range = RunCtl({"--api", api(), "counts", "--from", "2025-12-02T00:00:00+00:00", "--to",
-                       "2025-12-02T01:00:00Z"});
+                          "2025-12-02T01:00:00Z"});
   ASSERT_EQ(range.exit_code, kExitOk) << range.err;
   std::lock_guard lock(harness.backend.mutex);
   ASSERT_EQ(harness.backend.counts_calls.size(), 2u);

@@ -2,7 +2,6 @@
 
 #include <algorithm>
 #include <functional>
-
 #include <nlohmann/json.hpp>
 
 #include "api/api_token.h"
@@ -34,16 +33,17 @@ constexpr Command kCommands[] = {
 };
 
 // Global options: these take a value, so the word after them is not the command.
-constexpr std::string_view kValueOptions[] = {"--api", "--token-file", "--timeout", "--window",
-                                              "--from", "--to"};
+constexpr std::string_view kValueOptions[] = {"--api",    "--token-file", "--timeout",
+                                              "--window", "--from",       "--to"};
 
 std::string GlobalHelp() {
   std::string help =
       "usage: sestonctl [--api HOST:PORT] [--token-file FILE] [--json] [--timeout SECONDS] "
       "COMMAND\n\nQueries and labels a running sestond.\n\ncommands:\n";
   for (const Command& command : kCommands) {
-    std::string line = std::string("  ") + command.name + " " + command.arguments;
-    help += line + "\n      " + command.summary + "\n";
+    std::string arguments = command.arguments;
+    help += std::string("  ") + command.name + (arguments.empty() ? "" : " " + arguments) +
+            "\n      " + command.summary + "\n";
   }
   help +=
       "\n`sestonctl COMMAND --help` shows a command's options. --api defaults to $SESTON_API, "
@@ -143,24 +143,28 @@ Result<Request> BuildRequest(std::string_view name, const CommandLine& cli) {
   } else if (name == "label") {
     SESTON_RETURN_IF_ERROR(expect_words(2, "ID NAME"));
     const std::string& id = words[0];
-    if (id.empty() || !std::all_of(id.begin(), id.end(), [](char c) { return c >= '0' && c <= '9'; })) {
-      return Status::InvalidArgument("sestonctl label: ID must be a cluster id (a whole number), "
-                                     "got \"" + id + "\"");
+    if (id.empty() ||
+        !std::all_of(id.begin(), id.end(), [](char c) { return c >= '0' && c <= '9'; })) {
+      return Status::InvalidArgument(
+          "sestonctl label: ID must be a cluster id (a whole number), "
+          "got \"" +
+          id + "\"");
     }
     request = {"PUT", "/v1/clusters/" + id + "/label", nlohmann::json{{"label", words[1]}}.dump(),
                true};
   } else {
     if (words.size() != 1 || words[0] != "accept") {
-      return Status::InvalidArgument("sestonctl baseline: write `sestonctl baseline accept` to "
-                                     "take the present clusters as the new baseline");
+      return Status::InvalidArgument(
+          "sestonctl baseline: write `sestonctl baseline accept` to "
+          "take the present clusters as the new baseline");
     }
     request = {"POST", "/v1/baseline", "", true};
   }
   return request;
 }
 
-Result<HttpReply> Exchange(const std::string& api, double timeout_seconds,
-                           const Request& request, const std::string& token) {
+Result<HttpReply> Exchange(const std::string& api, double timeout_seconds, const Request& request,
+                           const std::string& token) {
   SESTON_ASSIGN_OR_RETURN(std::unique_ptr<HttpClient> client,
                           HttpClient::Connect(api, timeout_seconds));
   return client->Send(request.method, request.target, request.body, token);

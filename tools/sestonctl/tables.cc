@@ -121,13 +121,10 @@ std::string FormatStatus(const nlohmann::json& health) {
       {"clusters (k)", Number(health, "k")},
       {"last particle", Text(health, "last_particle_time")},
       {"last checkpoint", Text(health, "last_checkpoint_time")},
-      {"particles", Number(particles, "accepted") + " accepted, " +
-                        Number(particles, "rejected") + " rejected, " +
-                        Number(particles, "unclassified") + " unclassified"},
-      {"files", Number(files, "done") + " done, " + Number(files, "quarantined") +
-                    " quarantined"},
-      {"backlog", Number(backlog, "files") + " files, " + Number(backlog, "records") +
-                      " records"},
+      {"particles", Number(particles, "accepted") + " accepted, " + Number(particles, "rejected") +
+                        " rejected, " + Number(particles, "unclassified") + " unclassified"},
+      {"files", Number(files, "done") + " done, " + Number(files, "quarantined") + " quarantined"},
+      {"backlog", Number(backlog, "files") + " files, " + Number(backlog, "records") + " records"},
       {"last error", last_error == kNone ? "none" : last_error},
   };
   // A key/value listing: a two-column table without its header row.
@@ -146,15 +143,13 @@ std::string FormatCounts(const nlohmann::json& counts) {
     rows.push_back({Number(cluster, "id"), Label(cluster), Number(cluster, "count"),
                     Number(cluster, "concentration_per_ml")});
   }
-  rows.push_back({"", "unclassified", Number(counts, "unclassified"),
-                  Number(counts, "unclassified_per_ml")});
+  rows.push_back(
+      {"", "unclassified", Number(counts, "unclassified"), Number(counts, "unclassified_per_ml")});
   rows.push_back({"", "total", Number(counts, "total"), ""});
   rows.push_back({"", "rejected (not in total)", Number(counts, "rejected"), ""});
-  out << FormatTable({{"id", Align::kRight},
-                      {"label"},
-                      {"count", Align::kRight},
-                      {"conc. /mL", Align::kRight}},
-                     rows);
+  out << FormatTable(
+      {{"id", Align::kRight}, {"label"}, {"count", Align::kRight}, {"conc. /mL", Align::kRight}},
+      rows);
   return out.str();
 }
 

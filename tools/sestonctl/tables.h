@@ -8,10 +8,9 @@
 // Pure functions; no I/O.
 #pragma once
 
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 namespace seston::ctl {
 
