@@ -1,0 +1,385 @@
+#include "pipeline/pipeline.h"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <span>
+
+#include "base/time_format.h"
+
+namespace seston {
+namespace {
+
+std::string RejectionText(const RowRejection& rejection) {
+  return "line " + std::to_string(rejection.line) + ": " + RejectReasonName(rejection.reason) +
+         (rejection.detail.empty() ? "" : ": " + rejection.detail);
+}
+
+}  // namespace
+
+Result<std::unique_ptr<Pipeline>> Pipeline::Create(const Config& config, FileSystem& fs) {
+  SESTON_ASSIGN_OR_RETURN(auto features, FeaturePipeline::Create(config.features));
+  std::vector<std::string> columns;
+  for (const auto& feature : config.features.features) columns.push_back(feature.column);
+  SESTON_ASSIGN_OR_RETURN(auto csv, CsvReader::Create(config.input, columns));
+  SESTON_ASSIGN_OR_RETURN(auto counts, CountBook::Create(config.counts));
+  SESTON_ASSIGN_OR_RETURN(auto writer, CountFileWriter::Create(fs, config.counts));
+  return std::unique_ptr<Pipeline>(new Pipeline(config, fs, std::move(features), std::move(csv),
+                                                std::move(counts), std::move(writer)));
+}
+
+Pipeline::Pipeline(const Config& config, FileSystem& fs, FeaturePipeline features, CsvReader csv,
+                   CountBook counts, CountFileWriter writer)
+    : config_(config),
+      fs_(fs),
+      features_(std::move(features)),
+      csv_(std::move(csv)),
+      counts_(std::move(counts)),
+      writer_(std::move(writer)) {}
+
+Result<FileOutcome> Pipeline::ProcessFile(std::string_view source, std::string_view bytes,
+                                          AssignmentSink* sink) {
+  SESTON_ASSIGN_OR_RETURN(ParsedFile parsed, csv_.Parse(source, bytes));
+  RowMatrix transformed;
+  std::vector<std::size_t> kept;
+  std::vector<RowRejection> domain_rejections;
+  features_.TransformBatch(parsed.batch, &transformed, &kept, &domain_rejections);
+
+  FileOutcome outcome;
+  outcome.source = std::string(source);
+  outcome.data_rows = parsed.data_rows;
+  outcome.rejections = std::move(parsed.rejections);
+  outcome.rejections.insert(outcome.rejections.end(), domain_rejections.begin(),
+                            domain_rejections.end());
+  std::stable_sort(outcome.rejections.begin(), outcome.rejections.end(),
+                   [](const RowRejection& a, const RowRejection& b) { return a.line < b.line; });
+  outcome.rejected = outcome.rejections.size();
+  outcome.accepted = kept.size();
+
+  // The whole file is judged before anything is counted, so a quarantined file leaves
+  // no trace in the counts.
+  double limit = config_.input.max_bad_row_fraction * static_cast<double>(parsed.data_rows);
+  if (outcome.rejected > 0 && static_cast<double>(outcome.rejected) > limit) {
+    std::string message = std::string(source) + ": " + std::to_string(outcome.rejected) +
+                          " of " + std::to_string(parsed.data_rows) +
+                          " rows rejected, more than input.max_bad_row_fraction (" +
+                          std::to_string(config_.input.max_bad_row_fraction) + ")";
+    for (std::size_t i = 0; i < outcome.rejections.size() && i < 5; ++i) {
+      message += "; " + RejectionText(outcome.rejections[i]);
+    }
+    return Status::InvalidArgument(message);
+  }
+
+  const ParticleBatch& batch = parsed.batch;
+  std::vector<std::uint64_t> sample_slots(batch.samples.size());
+  for (std::size_t j = 0; j < batch.samples.size(); ++j) {
+    std::uint64_t slot = next_slot_++;
+    OpenSample& sample = samples_[slot];
+    sample.source = std::string(source);
+    sample.sample_id = batch.samples[j].id;
+    sample.volume_ml = batch.samples[j].volume_ml;
+    sample_slots[j] = slot;
+  }
+  std::vector<std::uint64_t> slots(kept.size());
+  for (std::size_t i = 0; i < kept.size(); ++i) {
+    slots[i] = sample_slots[batch.sample_index[kept[i]]];
+  }
+  if (!kept.empty()) {
+    outcome.first_seconds = batch.time_seconds[kept.front()];
+    outcome.last_seconds = batch.time_seconds[kept.back()];
+  }
+
+  counters_.rows += parsed.data_rows;
+  counters_.rejected += outcome.rejected;
+  for (const auto& rejection : outcome.rejections) {
+    ++counters_.rejected_by_reason[static_cast<std::size_t>(rejection.reason)];
+  }
+  // Rejected rows have no trustworthy time of their own; they are counted with the
+  // file's first sample, in the bin of its first particle.
+  if (!sample_slots.empty()) samples_[sample_slots.front()].tally.rejected += outcome.rejected;
+
+  SESTON_RETURN_IF_ERROR(Accept(batch, kept, std::move(transformed), slots, sink));
+  for (std::uint64_t slot : sample_slots) samples_[slot].closed = true;
+  ++counters_.files;
+  SESTON_RETURN_IF_ERROR(FinalizeReadySamples());
+  return outcome;
+}
+
+std::uint64_t Pipeline::SlotFor(const std::string& source, const std::string& sample_id) {
+  auto key = std::make_pair(source, sample_id);
+  if (auto it = open_slot_by_name_.find(key); it != open_slot_by_name_.end()) return it->second;
+  std::uint64_t slot = next_slot_++;
+  OpenSample& sample = samples_[slot];
+  sample.source = source;
+  sample.sample_id = sample_id;
+  open_slot_by_name_.emplace(std::move(key), slot);
+  return slot;
+}
+
+Status Pipeline::ProcessRecords(const ParticleBatch& batch, AssignmentSink* sink) {
+  RowMatrix transformed;
+  std::vector<std::size_t> kept;
+  std::vector<RowRejection> rejections;
+  features_.TransformBatch(batch, &transformed, &kept, &rejections);
+  for (const auto& rejection : rejections) CountRejected(rejection.reason);
+  counters_.rows += kept.size();
+  std::vector<std::uint64_t> slots(kept.size());
+  for (std::size_t i = 0; i < kept.size(); ++i) {
+    const SampleInfo& info = batch.samples[batch.sample_index[kept[i]]];
+    slots[i] = SlotFor(batch.source, info.id);
+    if (info.volume_ml && !samples_[slots[i]].volume_ml) samples_[slots[i]].volume_ml = info.volume_ml;
+  }
+  return Accept(batch, kept, std::move(transformed), slots, sink);
+}
+
+void Pipeline::CountRejected(RejectReason reason) {
+  ++counters_.rows;
+  ++counters_.rejected;
+  ++counters_.rejected_by_reason[static_cast<std::size_t>(reason)];
+}
+
+Status Pipeline::CloseSample(const std::string& source, const std::string& sample_id,
+                             double volume_ml) {
+  std::uint64_t slot = SlotFor(source, sample_id);
+  OpenSample& sample = samples_[slot];
+  sample.volume_ml = volume_ml;
+  sample.closed = true;
+  open_slot_by_name_.erase({source, sample_id});
+  return FinalizeReadySamples();
+}
+
+Status Pipeline::Accept(const ParticleBatch& batch, const std::vector<std::size_t>& kept_rows,
+                        RowMatrix transformed, const std::vector<std::uint64_t>& slots,
+                        AssignmentSink* sink) {
+  const std::size_t n = kept_rows.size();
+  if (n == 0) return Status::Ok();
+  std::vector<double> times(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    times[i] = batch.time_seconds[kept_rows[i]];
+    if (!latest_seconds_ || times[i] > *latest_seconds_) latest_seconds_ = times[i];
+    if (!earliest_seconds_ || times[i] < *earliest_seconds_) earliest_seconds_ = times[i];
+    samples_[slots[i]].has_particles = true;
+  }
+  counters_.accepted += n;
+
+  if (warming_up()) {
+    std::uint32_t source_index;
+    if (!warmup_.source_names.empty() && warmup_.source_names.back() == batch.source) {
+      source_index = static_cast<std::uint32_t>(warmup_.source_names.size() - 1);
+    } else {
+      source_index = static_cast<std::uint32_t>(warmup_.source_names.size());
+      warmup_.source_names.push_back(batch.source);
+    }
+    const auto dims = static_cast<std::size_t>(transformed.cols());
+    warmup_.values.insert(warmup_.values.end(), transformed.data(),
+                          transformed.data() + n * dims);
+    for (std::size_t i = 0; i < n; ++i) {
+      warmup_.times.push_back(times[i]);
+      warmup_.slots.push_back(slots[i]);
+      warmup_.lines.push_back(batch.line[kept_rows[i]]);
+      warmup_.sources.push_back(source_index);
+      ++samples_[slots[i]].held;
+    }
+    if (warmup_.times.size() >= config_.model.warmup_particles) return EndWarmup(sink);
+    return Status::Ok();
+  }
+
+  features_.Standardize(&transformed);
+  const std::size_t batch_size = std::max<std::size_t>(1, config_.model.batch_size);
+  std::vector<std::uint32_t> ids;
+  std::vector<double> distances;
+  for (std::size_t start = 0; start < n; start += batch_size) {
+    const std::size_t m = std::min(batch_size, n - start);
+    RowMatrix chunk = transformed.middleRows(static_cast<Eigen::Index>(start),
+                                             static_cast<Eigen::Index>(m));
+    std::span<const double> chunk_times(times.data() + start, m);
+    model_->ProcessBatch(chunk, chunk_times.front(), chunk_times.back(), &ids, &distances,
+                         chunk_times);
+    for (std::size_t i = 0; i < m; ++i) {
+      Tally(slots[start + i], chunk_times[i], ids[i]);
+      if (sink != nullptr) {
+        sink->Assigned(batch.source, batch.line[kept_rows[start + i]], ids[i], distances[i]);
+      }
+    }
+  }
+  return Status::Ok();
+}
+
+Status Pipeline::EndWarmup(AssignmentSink* sink) {
+  const std::size_t n = warmup_.times.size();
+  const auto dims = static_cast<Eigen::Index>(features_.dims());
+  RowMatrix rows = ConstRowMatrixMap(warmup_.values.data(), static_cast<Eigen::Index>(n), dims);
+  features_.FitScaler(rows);
+  features_.Standardize(&rows);
+  SESTON_ASSIGN_OR_RETURN(auto model,
+                          MiniBatchKMeans::Create(config_.model, rows, warmup_.times.back()));
+  model_ = std::move(model);
+  // Warm-up particles shaped the fit already, so they are classified without moving the
+  // centres a second time.
+  std::vector<std::uint32_t> ids;
+  std::vector<double> distances;
+  model_->Classify(rows, &ids, &distances);
+  for (std::size_t i = 0; i < n; ++i) {
+    Tally(warmup_.slots[i], warmup_.times[i], ids[i]);
+    --samples_[warmup_.slots[i]].held;
+    if (sink != nullptr) {
+      sink->Assigned(warmup_.source_names[warmup_.sources[i]], warmup_.lines[i], ids[i],
+                     distances[i]);
+    }
+  }
+  warmup_ = WarmupBuffer{};
+  return FinalizeReadySamples();
+}
+
+Status Pipeline::FinishWarmup(AssignmentSink* sink) {
+  if (!warming_up()) return Status::Ok();
+  std::size_t needed = static_cast<std::size_t>(
+      std::max(config_.model.k == 0 ? config_.model.k_max : config_.model.k, 1));
+  if (warmup_.times.size() < needed) {
+    return Status::FailedPrecondition(
+        "only " + std::to_string(warmup_.times.size()) +
+        " particles were accepted; the model needs at least " + std::to_string(needed) +
+        " to fit (model.warmup_particles is " + std::to_string(config_.model.warmup_particles) +
+        ")");
+  }
+  return EndWarmup(sink);
+}
+
+void Pipeline::Tally(std::uint64_t slot, double seconds, std::uint32_t cluster_id) {
+  SampleTally& tally = samples_[slot].tally;
+  if (tally.by_cluster.empty() && tally.by_bin.empty()) {
+    tally.first_seconds = seconds;
+    tally.last_seconds = seconds;
+  } else {
+    tally.first_seconds = std::min(tally.first_seconds, seconds);
+    tally.last_seconds = std::max(tally.last_seconds, seconds);
+  }
+  ++tally.by_cluster[cluster_id];
+  ++tally.by_bin[counts_.BinStart(seconds)].by_cluster[cluster_id];
+  ++totals_[cluster_id];
+  if (cluster_id == 0) ++counters_.unclassified;
+}
+
+Status Pipeline::FinalizeReadySamples() {
+  for (auto it = samples_.begin(); it != samples_.end();) {
+    OpenSample& sample = it->second;
+    if (!sample.closed || sample.held > 0) {
+      ++it;
+      continue;
+    }
+    SampleTally& tally = sample.tally;
+    tally.sample_id = sample.sample_id;
+    tally.source = sample.source;
+    tally.volume_ml = sample.volume_ml.value_or(config_.input.default_volume_ml);
+    if (!sample.has_particles) {
+      // A sample of clean water still analysed its volume; it sits at the latest time.
+      if (!latest_seconds_) {
+        it = samples_.erase(it);
+        continue;
+      }
+      tally.first_seconds = tally.last_seconds = *latest_seconds_;
+    }
+    if (tally.rejected > 0) tally.by_bin[counts_.BinStart(tally.first_seconds)].rejected += tally.rejected;
+    SESTON_RETURN_IF_ERROR(counts_.AddSample(tally));
+    ++counters_.samples;
+    counters_.volume_ml += tally.volume_ml;
+    SESTON_RETURN_IF_ERROR(writer_.WriteSample(tally));
+    it = samples_.erase(it);
+  }
+  return Status::Ok();
+}
+
+Status Pipeline::WriteCountFiles(bool all) {
+  std::vector<BinCounts> bins = all ? counts_.TakeAllPendingBins() : counts_.TakeClosedBins();
+  return writer_.WriteBins(bins);
+}
+
+std::string Pipeline::LabelOf(std::uint32_t id) const {
+  if (id == 0) return "unclassified";
+  if (auto it = labels_.find(id); it != labels_.end()) return it->second;
+  return "group " + std::to_string(id);
+}
+
+Status Pipeline::SetLabel(std::uint32_t id, std::string label) {
+  if (!model_ || model_->FindCluster(id) == nullptr) {
+    return Status::NotFound("no cluster with id " + std::to_string(id));
+  }
+  labels_[id] = std::move(label);
+  return Status::Ok();
+}
+
+std::vector<std::pair<std::string, double>> Pipeline::CentreInInputUnits(
+    std::uint32_t id) const {
+  std::vector<std::pair<std::string, double>> centre;
+  const MiniBatchKMeans::Cluster* cluster = model_ ? model_->FindCluster(id) : nullptr;
+  if (cluster == nullptr) return centre;
+  std::vector<double> values = features_.ToInputUnits(cluster->centre.data());
+  for (std::size_t d = 0; d < values.size(); ++d) {
+    centre.emplace_back(features_.columns()[d], values[d]);
+  }
+  return centre;
+}
+
+nlohmann::json Pipeline::SummaryJson() const {
+  nlohmann::json summary;
+  summary["particles"] = {{"read", counters_.rows},
+                          {"accepted", counters_.accepted},
+                          {"rejected", counters_.rejected},
+                          {"unclassified", counters_.unclassified}};
+  nlohmann::json by_reason = nlohmann::json::object();
+  for (int r = 0; r < kRejectReasonCount; ++r) {
+    by_reason[RejectReasonName(static_cast<RejectReason>(r))] =
+        counters_.rejected_by_reason[static_cast<std::size_t>(r)];
+  }
+  summary["rejected_by_reason"] = by_reason;
+  summary["files"] = counters_.files;
+  summary["warming_up"] = warming_up();
+  auto time_or_null = [](const std::optional<double>& seconds) {
+    return seconds ? nlohmann::json(FormatIso8601(*seconds)) : nlohmann::json(nullptr);
+  };
+  summary["first_time"] = time_or_null(earliest_seconds_);
+  summary["last_time"] = time_or_null(latest_seconds_);
+  summary["samples"] = counters_.samples;
+  summary["volume_ml"] = counters_.volume_ml;
+  auto per_ml = [this](std::uint64_t count) {
+    return counters_.volume_ml > 0
+               ? nlohmann::json(static_cast<double>(count) / counters_.volume_ml)
+               : nlohmann::json(nullptr);
+  };
+  summary["unclassified_per_ml"] = per_ml(counters_.unclassified);
+  nlohmann::json clusters = nlohmann::json::array();
+  if (model_) {
+    summary["k"] = model_->active_count();
+    if (const auto& selection = model_->k_selection()) {
+      nlohmann::json scores = nlohmann::json::array();
+      for (const auto& score : selection->scores) {
+        scores.push_back({{"k", score.k},
+                          {"sse", score.sse},
+                          {"silhouette", std::isfinite(score.silhouette)
+                                             ? nlohmann::json(score.silhouette)
+                                             : nlohmann::json(nullptr)}});
+      }
+      summary["k_selection"] = {
+          {"rule", selection->rule}, {"chosen_k", selection->chosen_k}, {"scores", scores}};
+    }
+    for (const auto& cluster : model_->clusters()) {
+      nlohmann::json centroid = nlohmann::json::object();
+      for (const auto& [column, value] : CentreInInputUnits(cluster.id)) centroid[column] = value;
+      auto total = totals_.find(cluster.id);
+      clusters.push_back({{"id", cluster.id},
+                          {"label", LabelOf(cluster.id)},
+                          {"count", total == totals_.end() ? 0 : total->second},
+                          {"concentration_per_ml",
+                           per_ml(total == totals_.end() ? 0 : total->second)},
+                          {"centroid", centroid},
+                          {"spread_z", cluster.spread},
+                          {"retired", cluster.retired}});
+    }
+  } else {
+    summary["k"] = 0;
+  }
+  summary["clusters"] = clusters;
+  return summary;
+}
+
+}  // namespace seston
