@@ -2,8 +2,11 @@
 
 #include <gtest/gtest.h>
 
+#include <atomic>
 #include <cmath>
+#include <mutex>
 #include <random>
+#include <thread>
 
 namespace seston {
 namespace {
@@ -195,6 +198,41 @@ TEST(CountBook, SnapshotIsUnaffectedByLaterAdditions) {
   EXPECT_EQ(now.total, 23u);
   EXPECT_EQ(now.volume_ml, 5.0);
   EXPECT_EQ(book.samples().size(), 3u);
+}
+
+TEST(CountBook, SnapshotsReadOnAnotherThreadKeepTheirTotalsWhileTheBookMovesOn) {
+  CountsOptions options = Options(1);
+  options.retained_bins = 600;  // retention drops bins that older snapshots still hold
+  CountBook book = MakeBook(options);
+  std::vector<std::pair<std::shared_ptr<const CountBookSnapshot>, std::uint64_t>> taken;
+  std::atomic<bool> done{false};
+  std::atomic<int> mismatches{0};
+  std::mutex mutex;
+  std::thread reader([&] {
+    while (!done.load()) {
+      std::vector<std::pair<std::shared_ptr<const CountBookSnapshot>, std::uint64_t>> copy;
+      {
+        std::lock_guard lock(mutex);
+        copy = taken;
+      }
+      for (const auto& [snapshot, total] : copy) {
+        if (snapshot->Query(0, 1e10).total != total) ++mismatches;
+      }
+    }
+  });
+  for (int i = 0; i < 2000; ++i) {
+    // Every tenth sample lands in an old bin, so shared chunks are copied before changes.
+    double when = kDay + (i % 10 == 0 ? i / 2 : i);
+    ASSERT_TRUE(book.AddSample(OneBinSample("s", when, 1.0, {{1, 1}, {2, 2}})).ok());
+    if (i % 50 == 0) {
+      std::lock_guard lock(mutex);
+      taken.emplace_back(book.Snapshot(), book.Query(0, 1e10).total);
+    }
+  }
+  done = true;
+  reader.join();
+  EXPECT_EQ(mismatches.load(), 0);
+  EXPECT_EQ(taken.back().first->Query(0, 1e10).total, taken.back().second);
 }
 
 TEST(CountBook, RefusesTallyWhoseBinsDoNotAddUpAndChangesNothing) {
