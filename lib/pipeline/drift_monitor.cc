@@ -1,0 +1,333 @@
+#include "pipeline/drift_monitor.h"
+
+#include <algorithm>
+#include <cmath>
+
+#include "base/time_format.h"
+#include "drift/reading_text.h"
+
+namespace seston {
+namespace {
+
+std::vector<ClusterRef> ClusterRefs(const MiniBatchKMeans& model, bool baseline) {
+  std::vector<ClusterRef> refs;
+  for (const auto& cluster : model.clusters()) {
+    if (cluster.retired) continue;
+    // A baseline needs a spread to measure displacement in; a cluster with a single
+    // warm-up member has none and is left out of the centre baseline.
+    if (baseline && !(cluster.spread > 0 && std::isfinite(cluster.spread))) continue;
+    refs.push_back({cluster.id,
+                    std::vector<double>(cluster.centre.data(),
+                                        cluster.centre.data() + cluster.centre.size()),
+                    cluster.spread});
+  }
+  return refs;
+}
+
+nlohmann::json ReadingToJson(const DetectorReading& reading) {
+  return {{"kind", reading.kind},
+          {"level", DriftLevelName(reading.level)},
+          {"statistic", reading.statistic},
+          {"threshold", reading.threshold},
+          {"statistic_name", reading.statistic_name},
+          {"clusters", reading.clusters},
+          {"what_changed", reading.what_changed},
+          {"what_to_check", reading.what_to_check}};
+}
+
+Result<DetectorReading> ReadingFromJson(const nlohmann::json& json) {
+  DetectorReading reading;
+  reading.kind = json.at("kind").get<std::string>();
+  const std::string level = json.at("level").get<std::string>();
+  if (level == DriftLevelName(DriftLevel::kOk)) {
+    reading.level = DriftLevel::kOk;
+  } else if (level == DriftLevelName(DriftLevel::kWarn)) {
+    reading.level = DriftLevel::kWarn;
+  } else if (level == DriftLevelName(DriftLevel::kAlarm)) {
+    reading.level = DriftLevel::kAlarm;
+  } else {
+    return Status::Corruption("drift monitor state: reading level \"" + level +
+                              "\" is not ok, warn or alarm");
+  }
+  reading.statistic = json.at("statistic").get<double>();
+  reading.threshold = json.at("threshold").get<double>();
+  reading.statistic_name = json.at("statistic_name").get<std::string>();
+  reading.clusters = json.at("clusters").get<std::vector<std::uint32_t>>();
+  reading.what_changed = json.at("what_changed").get<std::string>();
+  reading.what_to_check = json.at("what_to_check").get<std::string>();
+  return reading;
+}
+
+}  // namespace
+
+Result<DriftMonitor> DriftMonitor::Create(const DriftOptions& drift, const AlertOptions& alerts,
+                                          std::string station) {
+  if (drift.evaluate_every_particles == 0) {
+    return Status::InvalidArgument(
+        "drift.evaluate_every_particles is 0; it must be at least 1 particle");
+  }
+  SESTON_ASSIGN_OR_RETURN(auto composition, CompositionDetector::Create(drift.composition));
+  SESTON_ASSIGN_OR_RETURN(auto centre, CentreDriftDetector::Create(drift.centre));
+  SESTON_ASSIGN_OR_RETURN(auto fit, FitDetector::Create(drift.fit));
+  SESTON_ASSIGN_OR_RETURN(auto novelty, NoveltyRateDetector::Create(drift.novelty));
+  SESTON_ASSIGN_OR_RETURN(auto policy, AlertPolicy::Create(alerts, station));
+  return DriftMonitor(drift, alerts, std::move(station), std::move(composition),
+                      std::move(centre), std::move(fit), std::move(novelty), std::move(policy));
+}
+
+Status DriftMonitor::SetBaseline(const MiniBatchKMeans& model,
+                                 const std::map<std::uint32_t, std::uint64_t>& counts_by_cluster,
+                                 double /*event_seconds*/) {
+  std::map<std::uint32_t, double> counts;
+  std::uint64_t total = 0;
+  std::uint64_t unclassified = 0;
+  for (const auto& [id, count] : counts_by_cluster) {
+    total += count;
+    if (id == 0) {
+      unclassified += count;
+    } else if (count > 0) {
+      counts[id] = static_cast<double>(count);
+    }
+  }
+  if (counts.empty()) {
+    return Status::FailedPrecondition(
+        "drift baseline: no particle was classified into a cluster; at least one is needed");
+  }
+  SESTON_RETURN_IF_ERROR(composition_.SetBaseline(std::move(counts)));
+  SESTON_RETURN_IF_ERROR(centre_.SetBaseline(ClusterRefs(model, true)));
+  SESTON_RETURN_IF_ERROR(
+      novelty_.SetBaseline(static_cast<double>(unclassified) / static_cast<double>(total)));
+  fit_.Reset();
+  ClearWindows();
+  return Status::Ok();
+}
+
+Status DriftMonitor::AcceptCurrentAsBaseline(const MiniBatchKMeans& model, double event_seconds) {
+  if (recent_ids_.empty()) {
+    return Status::FailedPrecondition(
+        "no particle has been classified into a cluster since the last baseline; a new "
+        "baseline needs a recent window to take its proportions from");
+  }
+  std::map<std::uint32_t, std::uint64_t> counts;
+  for (const auto& [id, count] : recent_counts_) {
+    counts[id] = static_cast<std::uint64_t>(std::llround(count));
+  }
+  // The unclassified rate is taken from its own (possibly longer) window, so the count
+  // given for id 0 reproduces that rate on the composition window's total.
+  const double rate = static_cast<double>(recent_unclassified_count_) /
+                      static_cast<double>(std::max<std::size_t>(1, recent_unclassified_.size()));
+  SESTON_RETURN_IF_ERROR(SetBaseline(model, counts, event_seconds));
+  return novelty_.SetBaseline(rate);
+}
+
+void DriftMonitor::ClearWindows() {
+  recent_ids_.clear();
+  recent_counts_.clear();
+  recent_unclassified_.clear();
+  recent_unclassified_count_ = 0;
+  since_evaluation_ = 0;
+}
+
+void DriftMonitor::PushRecent(std::uint32_t id) {
+  const bool unclassified = id == 0;
+  recent_unclassified_.push_back(unclassified);
+  recent_unclassified_count_ += unclassified ? 1 : 0;
+  if (recent_unclassified_.size() > drift_.novelty.window_particles) {
+    recent_unclassified_count_ -= recent_unclassified_.front() ? 1 : 0;
+    recent_unclassified_.pop_front();
+  }
+  if (unclassified) return;
+  recent_ids_.push_back(id);
+  recent_counts_[id] += 1;
+  if (recent_ids_.size() > drift_.composition.window_particles) {
+    const std::uint32_t oldest = recent_ids_.front();
+    recent_ids_.pop_front();
+    if (auto it = recent_counts_.find(oldest); it != recent_counts_.end() && --it->second <= 0) {
+      recent_counts_.erase(it);
+    }
+  }
+}
+
+std::vector<AlertEvent> DriftMonitor::Observe(MiniBatchKMeans& model,
+                                              std::span<const std::uint32_t> ids,
+                                              std::span<const double> distances,
+                                              std::span<const double> seconds,
+                                              const LabelOf& label_of) {
+  std::vector<AlertEvent> events;
+  const std::size_t n = std::min({ids.size(), distances.size(), seconds.size()});
+  for (std::size_t i = 0; i < n; ++i) {
+    PushRecent(ids[i]);
+    if (!has_baseline()) continue;
+    if (std::isfinite(distances[i])) fit_.Add(distances[i]);
+    if (++since_evaluation_ >= drift_.evaluate_every_particles) {
+      since_evaluation_ = 0;
+      Evaluate(model, seconds[i], label_of, &events);
+    }
+  }
+  return events;
+}
+
+void DriftMonitor::Evaluate(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
+                            std::vector<AlertEvent>* events) {
+  Births(model, seconds, label_of, events);
+  Retirements(model, seconds, label_of, events);
+  // Each detector can fail only on a broken invariant of this class (no baseline, a
+  // negative count, a centre of the wrong dimension); such a reading is skipped.
+  if (auto reading = composition_.Evaluate(recent_counts_); reading.ok()) {
+    ObserveReading(*reading, seconds, label_of, events);
+  }
+  if (centre_.has_baseline()) {
+    if (auto evaluation = centre_.Evaluate(ClusterRefs(model, false)); evaluation.ok()) {
+      ObserveReading(evaluation->instrument_drift, seconds, label_of, events);
+      ObserveReading(evaluation->centre_drift, seconds, label_of, events);
+    }
+  }
+  ObserveReading(fit_.Evaluate(), seconds, label_of, events);
+  if (auto reading = novelty_.Evaluate(recent_unclassified_count_, recent_unclassified_.size());
+      reading.ok()) {
+    ObserveReading(*reading, seconds, label_of, events);
+  }
+}
+
+void DriftMonitor::ObserveReading(const DetectorReading& reading, double seconds,
+                                  const LabelOf& label_of, std::vector<AlertEvent>* events) {
+  for (AlertEvent& event : policy_.Observe(reading, seconds, label_of)) {
+    Emit(std::move(event), events);
+  }
+  latest_[reading.kind] = reading;
+}
+
+void DriftMonitor::Births(MiniBatchKMeans& /*model*/, double /*seconds*/,
+                          const LabelOf& /*label_of*/, std::vector<AlertEvent>* /*events*/) {}
+
+void DriftMonitor::Retirements(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
+                               std::vector<AlertEvent>* events) {
+  std::vector<MiniBatchKMeans::Cluster> faded;
+  for (const auto& cluster : model.clusters()) {
+    if (!cluster.retired && cluster.weight < kRetireWeightFloor) faded.push_back(cluster);
+  }
+  for (const auto& cluster : faded) {
+    if (model.active_count() <= 1 || !model.RetireCluster(cluster.id, seconds).ok()) return;
+    AlertEvent event = OneOffEvent("cluster_retired", seconds);
+    event.since_seconds = cluster.born_seconds;
+    event.clusters = {{cluster.id, label_of ? label_of(cluster.id) : ""}};
+    event.statistic = cluster.weight;
+    event.statistic_name = "cluster_weight_particles";
+    event.threshold = kRetireWeightFloor;
+    event.message = "Group " + std::to_string(cluster.id) + " (present since " +
+                    FormatIso8601(cluster.born_seconds) +
+                    ") has faded away: its decayed weight is " +
+                    FormatSignificant(cluster.weight, 3) + " particles, below the floor of " +
+                    FormatSignificant(kRetireWeightFloor, 3) +
+                    " particle. It is retired; its id will not be used again.";
+    event.what_to_check =
+        "Whether this group was expected to disappear (season, tide, a finished bloom); "
+        "if it was an artefact of the instrument, nothing to do.";
+    Emit(std::move(event), events);
+  }
+}
+
+AlertEvent DriftMonitor::OneOffEvent(std::string kind, double seconds) const {
+  AlertEvent event;
+  event.event = "raised";
+  event.kind = std::move(kind);
+  event.severity = "warning";
+  event.time_seconds = seconds;
+  event.since_seconds = seconds;
+  event.station = station_;
+  return event;
+}
+
+void DriftMonitor::Emit(AlertEvent event, std::vector<AlertEvent>* events) {
+  event.sequence = ++sequence_;
+  const AlertKey key{event.kind, event.clusters.empty() ? 0u : event.clusters.front().first};
+  const bool one_off = event.severity == "warning";
+  if (event.event == "raised" && !one_off) {
+    active_[key] = event;
+  } else {
+    active_.erase(key);
+    if (alerts_.recent_kept > 0) {
+      recent_.push_back(event);
+      while (recent_.size() > alerts_.recent_kept) recent_.pop_front();
+    }
+  }
+  events->push_back(std::move(event));
+}
+
+std::vector<AlertEvent> DriftMonitor::active_alerts() const {
+  std::vector<AlertEvent> alerts;
+  for (const auto& entry : active_) alerts.push_back(entry.second);
+  return alerts;
+}
+
+nlohmann::json DriftMonitor::ToJson() const {
+  nlohmann::json latest = nlohmann::json::array();
+  for (const auto& entry : latest_) latest.push_back(ReadingToJson(entry.second));
+  nlohmann::json active = nlohmann::json::array();
+  for (const auto& entry : active_) active.push_back(seston::ToJson(entry.second));
+  nlohmann::json recent = nlohmann::json::array();
+  for (const AlertEvent& event : recent_) recent.push_back(seston::ToJson(event));
+  std::vector<int> unclassified(recent_unclassified_.begin(), recent_unclassified_.end());
+  return {{"composition", composition_.ToJson()},
+          {"centre", centre_.ToJson()},
+          {"fit", fit_.ToJson()},
+          {"novelty", novelty_.ToJson()},
+          {"policy", policy_.ToJson()},
+          {"recent_ids", recent_ids_},
+          {"recent_unclassified", unclassified},
+          {"since_evaluation", since_evaluation_},
+          {"latest", latest},
+          {"sequence", sequence_},
+          {"active", active},
+          {"recent", recent}};
+}
+
+Result<DriftMonitor> DriftMonitor::FromJson(const nlohmann::json& state, const DriftOptions& drift,
+                                            const AlertOptions& alerts, std::string station) {
+  SESTON_ASSIGN_OR_RETURN(DriftMonitor monitor, Create(drift, alerts, station));
+  try {
+    if (!state.at("composition").at("baseline").empty()) {
+      SESTON_ASSIGN_OR_RETURN(monitor.composition_,
+                              CompositionDetector::FromJson(state.at("composition"),
+                                                            drift.composition));
+    }
+    SESTON_ASSIGN_OR_RETURN(monitor.centre_,
+                            CentreDriftDetector::FromJson(state.at("centre"), drift.centre));
+    SESTON_ASSIGN_OR_RETURN(monitor.fit_, FitDetector::FromJson(state.at("fit"), drift.fit));
+    SESTON_ASSIGN_OR_RETURN(monitor.novelty_,
+                            NoveltyRateDetector::FromJson(state.at("novelty"), drift.novelty));
+    SESTON_ASSIGN_OR_RETURN(monitor.policy_,
+                            AlertPolicy::FromJson(state.at("policy"), alerts, station));
+    for (std::uint32_t id : state.at("recent_ids").get<std::vector<std::uint32_t>>()) {
+      monitor.recent_ids_.push_back(id);
+      monitor.recent_counts_[id] += 1;
+    }
+    for (int flag : state.at("recent_unclassified").get<std::vector<int>>()) {
+      monitor.recent_unclassified_.push_back(flag != 0);
+      monitor.recent_unclassified_count_ += flag != 0 ? 1 : 0;
+    }
+    monitor.since_evaluation_ = state.at("since_evaluation").get<std::uint64_t>();
+    for (const nlohmann::json& entry : state.at("latest")) {
+      SESTON_ASSIGN_OR_RETURN(DetectorReading reading, ReadingFromJson(entry));
+      monitor.latest_[reading.kind] = std::move(reading);
+    }
+    monitor.sequence_ = state.at("sequence").get<std::uint64_t>();
+    for (const nlohmann::json& entry : state.at("active")) {
+      Result<AlertEvent> event = AlertEventFromJson(entry);
+      if (!event.ok()) return event.status().WithContext("drift monitor state");
+      const AlertKey key{event->kind,
+                         event->clusters.empty() ? 0u : event->clusters.front().first};
+      monitor.active_[key] = std::move(event).value();
+    }
+    for (const nlohmann::json& entry : state.at("recent")) {
+      Result<AlertEvent> event = AlertEventFromJson(entry);
+      if (!event.ok()) return event.status().WithContext("drift monitor state");
+      monitor.recent_.push_back(std::move(event).value());
+    }
+  } catch (const nlohmann::json::exception& error) {
+    return Status::Corruption(std::string("drift monitor state: ") + error.what());
+  }
+  return monitor;
+}
+
+}  // namespace seston
