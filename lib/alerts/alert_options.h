@@ -4,6 +4,8 @@
 #include <cstddef>
 #include <string>
 
+#include "alerts/forwarding_options.h"
+
 namespace seston {
 
 struct AlertOptions {
@@ -15,6 +17,7 @@ struct AlertOptions {
   std::string hook_command;          // run with the alert file path as argument; "" = none
   double hook_timeout_seconds = 10;
   std::size_t recent_kept = 200;  // resolved alerts kept for GET /v1/alerts
+  AlertmanagerOptions alertmanager;  // forwarding to an Alertmanager; off by default
 };
 
 }  // namespace seston

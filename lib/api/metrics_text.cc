@@ -118,8 +118,7 @@ Status MetricsText::Sample(const MetricLabels& labels, double value) {
       return Status::InvalidArgument("label \"" + name + "\" appears twice in a sample of " +
                                      current_);
     }
-    rendered += (rendered.empty() ? "" : ",") + name + "=\"" + EscapeLabelValue(label_value) +
-                "\"";
+    rendered += (rendered.empty() ? "" : ",") + name + "=\"" + EscapeLabelValue(label_value) + "\"";
   }
   if (!current_label_sets_.insert(rendered).second) {
     return Status::InvalidArgument("a sample of " + current_ + " with labels {" + rendered +

@@ -52,9 +52,7 @@ class SystemdNotifier {
   // socket refuses it (systemd gone); a disabled notifier returns Ok.
   Status Notify(std::string_view message);
   // The helpers below pass their status text through OneLine.
-  Status Ready(std::string_view status) {
-    return Notify("READY=1\nSTATUS=" + OneLine(status));
-  }
+  Status Ready(std::string_view status) { return Notify("READY=1\nSTATUS=" + OneLine(status)); }
   Status Watchdog() { return Notify("WATCHDOG=1"); }
   Status Stopping(std::string_view status) {
     return Notify("STOPPING=1\nSTATUS=" + OneLine(status));

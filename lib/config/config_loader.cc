@@ -204,6 +204,21 @@ std::optional<std::string> AddressFault(std::string_view text) {
   return std::nullopt;
 }
 
+// Why `url` is not "http://HOST:PORT[/PATH]", or nullopt when it is. HOST may be a name.
+std::optional<std::string> AlertmanagerUrlFault(std::string_view url) {
+  constexpr std::string_view kScheme = "http://";
+  if (!url.starts_with(kScheme)) return "it must start with http:// (https is not supported)";
+  std::string_view authority = url.substr(kScheme.size());
+  authority = authority.substr(0, authority.find('/'));
+  const std::size_t colon = authority.rfind(':');
+  if (colon == std::string_view::npos || colon == 0 || authority.back() == ']') {
+    return "it needs a host and a :PORT";
+  }
+  const std::optional<int> port = ParseInteger<int>(authority.substr(colon + 1));
+  if (!port || *port < 1 || *port > 65535) return "the port must be a number from 1 to 65535";
+  return std::nullopt;
+}
+
 // Walks the YAML tree, filling a Config and collecting problems. One Reader reads one
 // document; it never throws (yaml-cpp's accessors used here do not throw on the node
 // kinds they are called for, and every conversion is done by hand).
@@ -634,6 +649,26 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"fit", Section(fit_rules)},
       {"novelty", Section(novelty_rules)},
   };
+  // Only the shape is checked here; the client (alerts/alertmanager_client.h) parses it.
+  const auto alertmanager_url = [this](std::string& out) {
+    return [this, &out](const Entry& e) {
+      std::string url;
+      if (!Text(e, url, true)) return;
+      if (!url.empty() && AlertmanagerUrlFault(url)) {
+        Expected(e, "\"\" (off) or a URL such as \"http://127.0.0.1:9093\"",
+                 *AlertmanagerUrlFault(url));
+        return;
+      }
+      out = url;
+    };
+  };
+  const Rules alertmanager_rules = {
+      {"url", alertmanager_url(alerts.alertmanager.url)},
+      {"resend_seconds", number(alerts.alertmanager.resend_seconds, Above(0))},
+      {"timeout_seconds", number(alerts.alertmanager.timeout_seconds, Above(0))},
+      {"max_retry_seconds", number(alerts.alertmanager.max_retry_seconds, AtLeast(1))},
+      {"max_pending_alerts", size(alerts.alertmanager.max_pending_alerts, 1)},
+  };
   const Rules alerts_rules = {
       {"dir", text(alerts.dir, false)},
       {"raise_after", integer(alerts.raise_after, 1, 1000000)},
@@ -642,6 +677,7 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"hook_command", text(alerts.hook_command, true)},
       {"hook_timeout_seconds", number(alerts.hook_timeout_seconds, Above(0))},
       {"recent_kept", size(alerts.recent_kept, 0)},
+      {"alertmanager", Section(alertmanager_rules)},
   };
   const Rules state_rules = {
       {"dir", text(state.dir, false)},

@@ -100,6 +100,11 @@ std::string DescribeConfig(const Config& config) {
       << alerts.resolve_after << " evaluations, cool-down " << NumberText(alerts.cooldown_seconds)
       << " s); hook: " << (alerts.hook_command.empty() ? "none" : QuotedText(alerts.hook_command))
       << "\n";
+  if (!alerts.alertmanager.url.empty()) {
+    out << "alert forwarding: " << alerts.alertmanager.url << "/api/v2/alerts (re-sent every "
+        << NumberText(alerts.alertmanager.resend_seconds) << " s while active, retried up to every "
+        << NumberText(alerts.alertmanager.max_retry_seconds) << " s)\n";
+  }
   out << "state: " << config.state.dir << " (checkpoint at least every "
       << NumberText(config.state.checkpoint_seconds) << " s; "
       << (config.state.start_fresh_if_unreadable ? "starts fresh" : "refuses to start")
@@ -202,7 +207,13 @@ nlohmann::json ConfigToJson(const Config& config) {
         {"cooldown_seconds", config.alerts.cooldown_seconds},
         {"hook_command", config.alerts.hook_command},
         {"hook_timeout_seconds", config.alerts.hook_timeout_seconds},
-        {"recent_kept", config.alerts.recent_kept}}},
+        {"recent_kept", config.alerts.recent_kept},
+        {"alertmanager",
+         {{"url", config.alerts.alertmanager.url},
+          {"resend_seconds", config.alerts.alertmanager.resend_seconds},
+          {"timeout_seconds", config.alerts.alertmanager.timeout_seconds},
+          {"max_retry_seconds", config.alerts.alertmanager.max_retry_seconds},
+          {"max_pending_alerts", config.alerts.alertmanager.max_pending_alerts}}}}},
       {"state",
        {{"dir", config.state.dir},
         {"checkpoint_seconds", config.state.checkpoint_seconds},

@@ -29,22 +29,22 @@ TEST(MetricsText, WritesHelpAndTypeBeforeTheSamplesOfAFamily) {
                   .ok());
   ASSERT_TRUE(page.Sample({{"reason", "not_a_number"}}, 12).ok());
   ASSERT_TRUE(page.Sample({{"reason", "field_count"}}, 0).ok());
-  EXPECT_EQ(Lines(page.Text()),
-            (std::vector<std::string>{"# HELP seston_particles_rejected_total Rows rejected, by "
-                                      "reason.",
-                                      "# TYPE seston_particles_rejected_total counter",
-                                      "seston_particles_rejected_total{reason=\"not_a_number\"} 12",
-                                      "seston_particles_rejected_total{reason=\"field_count\"} 0"}));
+  EXPECT_EQ(Lines(page.Text()), (std::vector<std::string>{
+                                    "# HELP seston_particles_rejected_total Rows rejected, by "
+                                    "reason.",
+                                    "# TYPE seston_particles_rejected_total counter",
+                                    "seston_particles_rejected_total{reason=\"not_a_number\"} 12",
+                                    "seston_particles_rejected_total{reason=\"field_count\"} 0"}));
   EXPECT_EQ(page.Text().back(), '\n');
 }
 
 TEST(MetricsText, EscapesLabelValuesAsTheFormatDocumentsThem) {
   MetricsText page;
   ASSERT_TRUE(page.Family("msdos_file_access_time_seconds", MetricType::kGauge, "x").ok());
-  ASSERT_TRUE(page.Sample({{"path", "C:\\DIR\\FILE.TXT"},
-                           {"error", "Cannot find file:\n\"FILE.TXT\""}},
-                          1.458255915e9)
-                  .ok());
+  ASSERT_TRUE(
+      page.Sample({{"path", "C:\\DIR\\FILE.TXT"}, {"error", "Cannot find file:\n\"FILE.TXT\""}},
+                  1.458255915e9)
+          .ok());
   EXPECT_EQ(Lines(page.Text()).back(),
             "msdos_file_access_time_seconds{path=\"C:\\\\DIR\\\\FILE.TXT\",error=\"Cannot find "
             "file:\\n\\\"FILE.TXT\\\"\"} 1458255915");
@@ -98,8 +98,8 @@ TEST(MetricsText, RefusesASecondFamilyOfOneNameAndARepeatedLabelSet) {
   MetricsText page;
   ASSERT_TRUE(page.Single("seston_up", MetricType::kGauge, "x", 1).ok());
   EXPECT_FALSE(page.Family("seston_up", MetricType::kGauge, "x").ok());
-  ASSERT_TRUE(page.Family("seston_cluster_concentration_per_millilitre", MetricType::kGauge, "x")
-                  .ok());
+  ASSERT_TRUE(
+      page.Family("seston_cluster_concentration_per_millilitre", MetricType::kGauge, "x").ok());
   ASSERT_TRUE(page.Sample({{"cluster", "3"}}, 1.5).ok());
   EXPECT_FALSE(page.Sample({{"cluster", "3"}}, 2.5).ok());
   EXPECT_FALSE(page.Sample({{"cluster", "4"}, {"cluster", "5"}}, 2.5).ok());
