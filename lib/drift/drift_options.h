@@ -42,6 +42,17 @@ struct NoveltyRateOptions {
                                           // buffer becomes a new cluster
 };
 
+// Analysed volume per sample against its baseline (drift/flow_detector.h). A falling
+// volume with unchanged concentrations means fewer particles per sample but the same
+// water: a clogging flow cell, a tired pump, a fouled inlet.
+struct FlowOptions {
+  std::size_t baseline_samples = 12;  // samples whose median volume becomes the baseline
+  std::size_t window_samples = 5;     // recent samples whose median is compared with it
+  double warn_ratio = 0.85;   // recent / baseline volume at or below this (or at or above
+                              // its inverse) warns; 0 < alarm_ratio <= warn_ratio < 1
+  double alarm_ratio = 0.7;   // ... and at or below this (or its inverse) alarms
+};
+
 struct DriftOptions {
   bool enabled = true;
   std::size_t evaluate_every_particles = 1000;
@@ -49,6 +60,7 @@ struct DriftOptions {
   CentreDriftOptions centre;
   FitOptions fit;
   NoveltyRateOptions novelty;
+  FlowOptions flow;
 };
 
 }  // namespace seston

@@ -2,9 +2,11 @@
 
 #include <algorithm>
 #include <cmath>
+#include <optional>
 
 #include "base/time_format.h"
 #include "drift/reading_text.h"
+#include "pipeline/birth_finder.h"
 
 namespace seston {
 namespace {
@@ -70,9 +72,11 @@ Result<DriftMonitor> DriftMonitor::Create(const DriftOptions& drift, const Alert
   SESTON_ASSIGN_OR_RETURN(auto centre, CentreDriftDetector::Create(drift.centre));
   SESTON_ASSIGN_OR_RETURN(auto fit, FitDetector::Create(drift.fit));
   SESTON_ASSIGN_OR_RETURN(auto novelty, NoveltyRateDetector::Create(drift.novelty));
+  SESTON_ASSIGN_OR_RETURN(auto flow, FlowDetector::Create(drift.flow));
   SESTON_ASSIGN_OR_RETURN(auto policy, AlertPolicy::Create(alerts, station));
   return DriftMonitor(drift, alerts, std::move(station), std::move(composition),
-                      std::move(centre), std::move(fit), std::move(novelty), std::move(policy));
+                      std::move(centre), std::move(fit), std::move(novelty), std::move(flow),
+                      std::move(policy));
 }
 
 Status DriftMonitor::SetBaseline(const MiniBatchKMeans& model,
@@ -98,6 +102,7 @@ Status DriftMonitor::SetBaseline(const MiniBatchKMeans& model,
   SESTON_RETURN_IF_ERROR(
       novelty_.SetBaseline(static_cast<double>(unclassified) / static_cast<double>(total)));
   fit_.Reset();
+  flow_.RestartBaseline();
   ClearWindows();
   return Status::Ok();
 }
@@ -116,8 +121,12 @@ Status DriftMonitor::AcceptCurrentAsBaseline(const MiniBatchKMeans& model, doubl
   // given for id 0 reproduces that rate on the composition window's total.
   const double rate = static_cast<double>(recent_unclassified_count_) /
                       static_cast<double>(std::max<std::size_t>(1, recent_unclassified_.size()));
+  FlowDetector flow = flow_;
   SESTON_RETURN_IF_ERROR(SetBaseline(model, counts, event_seconds));
-  return novelty_.SetBaseline(rate);
+  SESTON_RETURN_IF_ERROR(novelty_.SetBaseline(rate));
+  // A flow baseline needs a sample; without one seen yet, it is collected afresh.
+  if (flow.AcceptRecentAsBaseline().ok()) flow_ = std::move(flow);
+  return Status::Ok();
 }
 
 void DriftMonitor::ClearWindows() {
@@ -152,7 +161,8 @@ std::vector<AlertEvent> DriftMonitor::Observe(MiniBatchKMeans& model,
                                               std::span<const std::uint32_t> ids,
                                               std::span<const double> distances,
                                               std::span<const double> seconds,
-                                              const LabelOf& label_of) {
+                                              const LabelOf& label_of,
+                                              const CentreText& centre_text) {
   std::vector<AlertEvent> events;
   const std::size_t n = std::min({ids.size(), distances.size(), seconds.size()});
   for (std::size_t i = 0; i < n; ++i) {
@@ -161,15 +171,23 @@ std::vector<AlertEvent> DriftMonitor::Observe(MiniBatchKMeans& model,
     if (std::isfinite(distances[i])) fit_.Add(distances[i]);
     if (++since_evaluation_ >= drift_.evaluate_every_particles) {
       since_evaluation_ = 0;
-      Evaluate(model, seconds[i], label_of, &events);
+      Evaluate(model, seconds[i], label_of, centre_text, &events);
     }
   }
   return events;
 }
 
+std::vector<AlertEvent> DriftMonitor::ObserveSample(double volume_ml, double seconds) {
+  std::vector<AlertEvent> events;
+  if (!has_baseline()) return events;
+  flow_.Add(volume_ml);
+  ObserveReading(flow_.Evaluate(), seconds, nullptr, &events);
+  return events;
+}
+
 void DriftMonitor::Evaluate(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
-                            std::vector<AlertEvent>* events) {
-  Births(model, seconds, label_of, events);
+                            const CentreText& centre_text, std::vector<AlertEvent>* events) {
+  Births(model, seconds, label_of, centre_text, events);
   Retirements(model, seconds, label_of, events);
   // Each detector can fail only on a broken invariant of this class (no baseline, a
   // negative count, a centre of the wrong dimension); such a reading is skipped.
@@ -197,8 +215,42 @@ void DriftMonitor::ObserveReading(const DetectorReading& reading, double seconds
   latest_[reading.kind] = reading;
 }
 
-void DriftMonitor::Births(MiniBatchKMeans& /*model*/, double /*seconds*/,
-                          const LabelOf& /*label_of*/, std::vector<AlertEvent>* /*events*/) {}
+void DriftMonitor::Births(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
+                          const CentreText& centre_text, std::vector<AlertEvent>* events) {
+  std::optional<BirthCandidate> birth = FindBirth(model, drift_.novelty.birth_min_particles);
+  if (!birth) return;
+  const auto size = static_cast<double>(birth->members.size());
+  const std::uint32_t id = model.AddCluster(birth->centre, size, birth->novelty_threshold,
+                                            birth->spread, seconds);
+  model.RemoveNoveltyPoints(birth->members);
+  AlertEvent event = OneOffEvent("new_cluster", seconds);
+  event.since_seconds = birth->first_seconds;
+  event.clusters = {{id, label_of ? label_of(id) : ""}};
+  event.statistic = size;
+  event.statistic_name = "new_cluster_particles";
+  event.threshold = static_cast<double>(drift_.novelty.birth_min_particles);
+  std::string centre = centre_text ? centre_text(id) : "";
+  if (centre.empty()) {
+    centre = "in standardised units (";
+    for (Eigen::Index d = 0; d < birth->centre.size(); ++d) {
+      centre += (d > 0 ? ", " : "") + FormatFixed(birth->centre[d], 2);
+    }
+    centre += ") z";
+  }
+  event.message =
+      "A new group appeared: " + std::to_string(birth->members.size()) +
+      " particles that fit no known group (unclassified since " +
+      FormatIso8601(birth->first_seconds) + ") form a tight group, now cluster " +
+      std::to_string(id) + ". Its centre is " + centre + "; its spread is " +
+      FormatFixed(birth->spread, 2) + " z, and it lies " + FormatFixed(birth->nearest_distance, 2) +
+      " z from the nearest known group, cluster " + std::to_string(birth->nearest_id) +
+      ". From now on its particles are counted as cluster " + std::to_string(id) + ".";
+  event.what_to_check =
+      "Look at images of cluster " + std::to_string(id) +
+      " and give it a label: a new species or life stage, debris, bubbles, or an instrument "
+      "artefact. " + std::string(kScreeningAidCaution);
+  Emit(std::move(event), events);
+}
 
 void DriftMonitor::Retirements(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
                                std::vector<AlertEvent>* events) {
@@ -272,6 +324,7 @@ nlohmann::json DriftMonitor::ToJson() const {
           {"centre", centre_.ToJson()},
           {"fit", fit_.ToJson()},
           {"novelty", novelty_.ToJson()},
+          {"flow", flow_.ToJson()},
           {"policy", policy_.ToJson()},
           {"recent_ids", recent_ids_},
           {"recent_unclassified", unclassified},
@@ -296,6 +349,7 @@ Result<DriftMonitor> DriftMonitor::FromJson(const nlohmann::json& state, const D
     SESTON_ASSIGN_OR_RETURN(monitor.fit_, FitDetector::FromJson(state.at("fit"), drift.fit));
     SESTON_ASSIGN_OR_RETURN(monitor.novelty_,
                             NoveltyRateDetector::FromJson(state.at("novelty"), drift.novelty));
+    SESTON_ASSIGN_OR_RETURN(monitor.flow_, FlowDetector::FromJson(state.at("flow"), drift.flow));
     SESTON_ASSIGN_OR_RETURN(monitor.policy_,
                             AlertPolicy::FromJson(state.at("policy"), alerts, station));
     for (std::uint32_t id : state.at("recent_ids").get<std::vector<std::uint32_t>>()) {

@@ -23,11 +23,15 @@
 //                     units of each cluster's baseline spread;
 //   fit               Page–Hinkley on every particle's distance to its nearest centre;
 //   novelty           the recent window's unclassified rate against the baseline rate.
+// The flow detector (analysed volume per sample) is fed by ObserveSample instead, and
+// evaluated at each sample.
 // The birth and retirement rules below run at the same moments, before the detectors.
 //
 // Births: see pipeline/birth_finder.h for what makes a group in the novelty buffer
-// "tight" and "far". A group found is added to the model (AddCluster, with a new id
-// that is never reused) and its points leave the novelty buffer.
+// "tight" and "far" (at least drift.novelty.birth_min_particles points). A group found is
+// added to the model (AddCluster, with a new id that is never reused, weight = its
+// size, born at the evaluation's event time) and its points leave the novelty buffer.
+// At most one birth per evaluation.
 // Retirement: an active cluster whose decayed weight fell below kRetireWeightFloor
 // particles (it has received practically nothing for many half-lives) is retired
 // (RetireCluster); the last active cluster is never retired.
@@ -67,6 +71,7 @@
 #include "drift/detector_reading.h"
 #include "drift/drift_options.h"
 #include "drift/fit_detector.h"
+#include "drift/flow_detector.h"
 #include "drift/novelty_rate_detector.h"
 #include "model/mini_batch_kmeans.h"
 
@@ -78,13 +83,17 @@ inline constexpr double kRetireWeightFloor = 1.0;
 class DriftMonitor {
  public:
   using LabelOf = std::function<std::string(std::uint32_t)>;
+  // A cluster's centre in the input's own units as text, e.g.
+  // "area_um2 = 412.3, aspect_ratio = 0.41"; used in the new_cluster message.
+  using CentreText = std::function<std::string(std::uint32_t)>;
 
   // Fails on any detector or policy option those classes refuse.
   static Result<DriftMonitor> Create(const DriftOptions& drift, const AlertOptions& alerts,
                                      std::string station);
 
   // (Re)sets the baseline from the model and the counts of the particles that define it
-  // (id 0 = unclassified). Resets the fit test and the recent windows. Fails when no
+  // (id 0 = unclassified). Resets the fit test and the recent windows; the flow baseline
+  // is the median volume of the next drift.flow.baseline_samples samples. Fails when no
   // particle was classified into a cluster.
   Status SetBaseline(const MiniBatchKMeans& model,
                      const std::map<std::uint32_t, std::uint64_t>& counts_by_cluster,
@@ -97,10 +106,17 @@ class DriftMonitor {
   // windows are filled.
   std::vector<AlertEvent> Observe(MiniBatchKMeans& model, std::span<const std::uint32_t> ids,
                                   std::span<const double> distances,
-                                  std::span<const double> seconds, const LabelOf& label_of);
+                                  std::span<const double> seconds, const LabelOf& label_of,
+                                  const CentreText& centre_text = {});
+
+  // Observes one finalised sample's analysed volume (mL) at its event time (s) and
+  // evaluates the flow detector. Returns the events that caused. Ignored before a
+  // baseline.
+  std::vector<AlertEvent> ObserveSample(double volume_ml, double seconds);
 
   // A technician's "this is normal now": the baseline becomes the current centres and the
-  // recent window's proportions and unclassified rate; the fit test restarts.
+  // recent window's proportions, unclassified rate and sample volume; the fit test
+  // restarts.
   // FailedPrecondition when the recent window is empty.
   Status AcceptCurrentAsBaseline(const MiniBatchKMeans& model, double event_seconds);
 
@@ -124,7 +140,7 @@ class DriftMonitor {
 
   DriftMonitor(DriftOptions drift, AlertOptions alerts, std::string station,
                CompositionDetector composition, CentreDriftDetector centre, FitDetector fit,
-               NoveltyRateDetector novelty, AlertPolicy policy)
+               NoveltyRateDetector novelty, FlowDetector flow, AlertPolicy policy)
       : drift_(drift),
         alerts_(std::move(alerts)),
         station_(std::move(station)),
@@ -132,15 +148,16 @@ class DriftMonitor {
         centre_(std::move(centre)),
         fit_(std::move(fit)),
         novelty_(std::move(novelty)),
+        flow_(std::move(flow)),
         policy_(std::move(policy)) {}
 
   void PushRecent(std::uint32_t id);
   void ClearWindows();
   // Births, retirements and every detector at `seconds`; appends events to `events`.
   void Evaluate(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
-                std::vector<AlertEvent>* events);
+                const CentreText& centre_text, std::vector<AlertEvent>* events);
   void Births(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
-              std::vector<AlertEvent>* events);
+              const CentreText& centre_text, std::vector<AlertEvent>* events);
   void Retirements(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
                    std::vector<AlertEvent>* events);
   void ObserveReading(const DetectorReading& reading, double seconds, const LabelOf& label_of,
@@ -156,6 +173,7 @@ class DriftMonitor {
   CentreDriftDetector centre_;
   FitDetector fit_;
   NoveltyRateDetector novelty_;
+  FlowDetector flow_;
   AlertPolicy policy_;
 
   std::deque<std::uint32_t> recent_ids_;  // classified ids (not 0), oldest first
