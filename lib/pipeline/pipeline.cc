@@ -40,6 +40,11 @@ Pipeline::Pipeline(const Config& config, FileSystem& fs, FeaturePipeline feature
 Result<FileOutcome> Pipeline::ProcessFile(std::string_view source, std::string_view bytes,
                                           AssignmentSink* sink) {
   SESTON_ASSIGN_OR_RETURN(ParsedFile parsed, csv_.Parse(source, bytes));
+  return ProcessParsed(source, std::move(parsed), sink);
+}
+
+Result<FileOutcome> Pipeline::ProcessParsed(std::string_view source, ParsedFile parsed,
+                                            AssignmentSink* sink) {
   RowMatrix transformed;
   std::vector<std::size_t> kept;
   std::vector<RowRejection> domain_rejections;

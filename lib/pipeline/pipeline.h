@@ -85,6 +85,13 @@ class Pipeline {
   // quarantines the file); otherwise every row is accepted or rejected with its reason.
   Result<FileOutcome> ProcessFile(std::string_view source, std::string_view bytes,
                                   AssignmentSink* sink);
+  // ProcessFile after its parse step, for a file parsed by csv_reader() elsewhere (replay
+  // parses the next files on another thread while this one is clustered). `parsed` must
+  // come from csv_reader().Parse(source, ...); results and errors are ProcessFile's.
+  Result<FileOutcome> ProcessParsed(std::string_view source, ParsedFile parsed,
+                                    AssignmentSink* sink);
+  // The reader ProcessFile parses with: immutable, its Parse may run on any thread.
+  const CsvReader& csv_reader() const { return csv_; }
 
   // Processes accepted particles that belong to samples that stay open until
   // CloseSample (the socket path). Rejected records are only counted.
