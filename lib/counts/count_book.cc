@@ -142,6 +142,10 @@ std::string Describe(const SampleTally& sample) {
 
 }  // namespace
 
+nlohmann::json SampleTallyToJson(const SampleTally& sample) { return SampleToJson(sample); }
+
+SampleTally SampleTallyFromJson(const nlohmann::json& state) { return SampleFromJson(state); }
+
 Result<CountBook> CountBook::Create(const CountsOptions& options) {
   if (!std::isfinite(options.bin_seconds) || !(options.bin_seconds > 0)) {
     return Status::InvalidArgument(

@@ -54,6 +54,11 @@
 
 namespace seston {
 
+// One sample's tally as checkpoint JSON, and back. FromJson throws nlohmann::json's
+// exceptions on malformed input; the caller turns them into kCorruption.
+nlohmann::json SampleTallyToJson(const SampleTally& sample);
+SampleTally SampleTallyFromJson(const nlohmann::json& state);
+
 class CountBook {
  public:
   // Fails unless bin_seconds > 0 and finite, bin_close_lag_seconds >= 0,

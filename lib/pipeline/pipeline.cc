@@ -6,6 +6,7 @@
 #include <span>
 
 #include "base/time_format.h"
+#include "features/feature_transform.h"
 
 namespace seston {
 namespace {
@@ -24,18 +25,25 @@ Result<std::unique_ptr<Pipeline>> Pipeline::Create(const Config& config, FileSys
   SESTON_ASSIGN_OR_RETURN(auto csv, CsvReader::Create(config.input, columns));
   SESTON_ASSIGN_OR_RETURN(auto counts, CountBook::Create(config.counts));
   SESTON_ASSIGN_OR_RETURN(auto writer, CountFileWriter::Create(fs, config.counts));
+  SESTON_ASSIGN_OR_RETURN(auto drift,
+                          DriftMonitor::Create(config.drift, config.alerts, config.station));
+  SESTON_ASSIGN_OR_RETURN(auto alert_writer, AlertWriter::Create(fs, config.alerts.dir));
   return std::unique_ptr<Pipeline>(new Pipeline(config, fs, std::move(features), std::move(csv),
-                                                std::move(counts), std::move(writer)));
+                                                std::move(counts), std::move(writer),
+                                                std::move(drift), std::move(alert_writer)));
 }
 
 Pipeline::Pipeline(const Config& config, FileSystem& fs, FeaturePipeline features, CsvReader csv,
-                   CountBook counts, CountFileWriter writer)
+                   CountBook counts, CountFileWriter writer, DriftMonitor drift,
+                   AlertWriter alert_writer)
     : config_(config),
       fs_(fs),
       features_(std::move(features)),
       csv_(std::move(csv)),
       counts_(std::move(counts)),
-      writer_(std::move(writer)) {}
+      writer_(std::move(writer)),
+      drift_(std::move(drift)),
+      alert_writer_(std::move(alert_writer)) {}
 
 Result<FileOutcome> Pipeline::ProcessFile(std::string_view source, std::string_view bytes,
                                           AssignmentSink* sink) {
@@ -206,8 +214,57 @@ Status Pipeline::Accept(const ParticleBatch& batch, const std::vector<std::size_
         sink->Assigned(batch.source, batch.line[kept_rows[start + i]], ids[i], distances[i]);
       }
     }
+    SESTON_RETURN_IF_ERROR(ObserveDrift(ids, distances, chunk_times));
   }
   return Status::Ok();
+}
+
+Status Pipeline::ObserveDrift(std::span<const std::uint32_t> ids,
+                              std::span<const double> distances,
+                              std::span<const double> seconds) {
+  if (!config_.drift.enabled) return Status::Ok();
+  // A birth raises next_id and a retirement lowers active_count, so together they show
+  // any change of the living set, even a birth and a retirement at once.
+  const int clusters_before = model_->active_count();
+  const std::uint32_t next_id_before = model_->next_id();
+  auto centre_text = [this](std::uint32_t id) {
+    std::string text;
+    for (const auto& [column, value] : CentreInInputUnits(id)) {
+      text += (text.empty() ? "" : ", ") + column + " = " + std::to_string(value);
+    }
+    return text;
+  };
+  auto events = drift_.Observe(*model_, ids, distances, seconds,
+                               [this](std::uint32_t id) { return LabelOf(id); }, centre_text);
+  for (const AlertEvent& event : events) {
+    SESTON_ASSIGN_OR_RETURN(auto path, alert_writer_.Write(event));
+    new_alert_files_.push_back(std::move(path));
+  }
+  if (model_->active_count() != clusters_before || model_->next_id() != next_id_before) {
+    UpdateCountFileClusters();
+  }
+  return Status::Ok();
+}
+
+void Pipeline::UpdateCountFileClusters() {
+  std::vector<std::uint32_t> living;
+  for (const auto& cluster : model_->clusters()) {
+    if (!cluster.retired) living.push_back(cluster.id);
+  }
+  writer_.SetClusters(std::move(living));
+}
+
+Status Pipeline::AcceptBaseline() {
+  if (warming_up()) {
+    return Status::FailedPrecondition("still warming up: the first baseline is set when warm-up ends");
+  }
+  return drift_.AcceptCurrentAsBaseline(*model_, latest_seconds_.value_or(0));
+}
+
+std::vector<std::filesystem::path> Pipeline::TakeNewAlertFiles() {
+  std::vector<std::filesystem::path> files;
+  files.swap(new_alert_files_);
+  return files;
 }
 
 Status Pipeline::EndWarmup(AssignmentSink* sink) {
@@ -224,6 +281,10 @@ Status Pipeline::EndWarmup(AssignmentSink* sink) {
   std::vector<std::uint32_t> ids;
   std::vector<double> distances;
   model_->Classify(rows, &ids, &distances);
+  UpdateCountFileClusters();
+  std::map<std::uint32_t, std::uint64_t> baseline_counts;
+  for (std::uint32_t id : ids) ++baseline_counts[id];
+  SESTON_RETURN_IF_ERROR(drift_.SetBaseline(*model_, baseline_counts, warmup_.times.back()));
   for (std::size_t i = 0; i < n; ++i) {
     Tally(warmup_.slots[i], warmup_.times[i], ids[i]);
     --samples_[warmup_.slots[i]].held;
@@ -289,6 +350,12 @@ Status Pipeline::FinalizeReadySamples() {
     ++counters_.samples;
     counters_.volume_ml += tally.volume_ml;
     SESTON_RETURN_IF_ERROR(writer_.WriteSample(tally));
+    if (config_.drift.enabled) {
+      for (const AlertEvent& event : drift_.ObserveSample(tally.volume_ml, tally.last_seconds)) {
+        SESTON_ASSIGN_OR_RETURN(auto path, alert_writer_.Write(event));
+        new_alert_files_.push_back(std::move(path));
+      }
+    }
     it = samples_.erase(it);
   }
   return Status::Ok();
@@ -385,6 +452,160 @@ nlohmann::json Pipeline::SummaryJson() const {
   }
   summary["clusters"] = clusters;
   return summary;
+}
+
+}  // namespace seston
+
+namespace seston {
+namespace {
+
+constexpr int kStateFormat = 1;
+
+nlohmann::json OptionalToJson(const std::optional<double>& value) {
+  return value ? nlohmann::json(*value) : nlohmann::json(nullptr);
+}
+
+std::optional<double> OptionalFromJson(const nlohmann::json& value) {
+  if (value.is_null()) return std::nullopt;
+  return value.get<double>();
+}
+
+// What the model's meaning depends on: a checkpoint made under other features cannot be
+// continued, only replaced.
+nlohmann::json ModelShape(const Config& config) {
+  nlohmann::json features = nlohmann::json::array();
+  for (const auto& feature : config.features.features) {
+    features.push_back({feature.column, TransformName(feature.transform)});
+  }
+  return {{"features", features}, {"standardize", config.features.standardize}};
+}
+
+}  // namespace
+
+nlohmann::json Pipeline::ToJson() const {
+  nlohmann::json state;
+  state["format"] = kStateFormat;
+  state["shape"] = ModelShape(config_);
+  state["features"] = features_.ToJson();
+  state["model"] = model_ ? model_->ToJson() : nlohmann::json(nullptr);
+  state["counts"] = counts_.ToJson();
+  state["count_files"] = writer_.Offsets().ToJson();
+  state["drift"] = drift_.ToJson();
+  state["warmup"] = {{"values", warmup_.values},   {"times", warmup_.times},
+                     {"slots", warmup_.slots},     {"lines", warmup_.lines},
+                     {"sources", warmup_.sources}, {"source_names", warmup_.source_names}};
+  nlohmann::json samples = nlohmann::json::array();
+  for (const auto& [slot, sample] : samples_) {
+    samples.push_back({{"slot", slot},
+                       {"source", sample.source},
+                       {"sample_id", sample.sample_id},
+                       {"volume_ml", OptionalToJson(sample.volume_ml)},
+                       {"tally", SampleTallyToJson(sample.tally)},
+                       {"held", sample.held},
+                       {"closed", sample.closed},
+                       {"has_particles", sample.has_particles}});
+  }
+  state["samples"] = samples;
+  nlohmann::json open = nlohmann::json::array();
+  for (const auto& [key, slot] : open_slot_by_name_) open.push_back({key.first, key.second, slot});
+  state["open_samples"] = open;
+  state["next_slot"] = next_slot_;
+  state["counters"] = {{"rows", counters_.rows},
+                       {"accepted", counters_.accepted},
+                       {"rejected", counters_.rejected},
+                       {"unclassified", counters_.unclassified},
+                       {"rejected_by_reason", counters_.rejected_by_reason},
+                       {"files", counters_.files},
+                       {"samples", counters_.samples},
+                       {"volume_ml", counters_.volume_ml}};
+  nlohmann::json totals = nlohmann::json::array();
+  for (const auto& [id, count] : totals_) totals.push_back({id, count});
+  state["totals"] = totals;
+  nlohmann::json labels = nlohmann::json::array();
+  for (const auto& [id, label] : labels_) labels.push_back({id, label});
+  state["labels"] = labels;
+  state["earliest_seconds"] = OptionalToJson(earliest_seconds_);
+  state["latest_seconds"] = OptionalToJson(latest_seconds_);
+  return state;
+}
+
+Status Pipeline::RestoreFromJson(const nlohmann::json& state) {
+  try {
+    if (state.at("format").get<int>() != kStateFormat) {
+      return Status::Corruption("pipeline state format " + state.at("format").dump() +
+                                " is not the supported " + std::to_string(kStateFormat));
+    }
+    if (state.at("shape") != ModelShape(config_)) {
+      return Status::FailedPrecondition(
+          "the checkpoint was made with features " + state.at("shape").dump() +
+          " but the config now says " + ModelShape(config_).dump() +
+          "; features cannot change under a running model: move the state directory aside to "
+          "start a new model");
+    }
+    SESTON_ASSIGN_OR_RETURN(features_, FeaturePipeline::FromJson(state.at("features")));
+    if (state.at("model").is_null()) {
+      model_.reset();
+    } else {
+      SESTON_ASSIGN_OR_RETURN(auto model, MiniBatchKMeans::FromJson(state.at("model")));
+      model_ = std::move(model);
+    }
+    SESTON_ASSIGN_OR_RETURN(counts_, CountBook::FromJson(state.at("counts"), config_.counts));
+    SESTON_ASSIGN_OR_RETURN(auto offsets, CountFileOffsets::FromJson(state.at("count_files")));
+    SESTON_RETURN_IF_ERROR(writer_.RestoreTo(offsets));
+    SESTON_ASSIGN_OR_RETURN(drift_, DriftMonitor::FromJson(state.at("drift"), config_.drift,
+                                                           config_.alerts, config_.station));
+    const auto& warmup = state.at("warmup");
+    warmup_.values = warmup.at("values").get<std::vector<double>>();
+    warmup_.times = warmup.at("times").get<std::vector<double>>();
+    warmup_.slots = warmup.at("slots").get<std::vector<std::uint64_t>>();
+    warmup_.lines = warmup.at("lines").get<std::vector<std::uint64_t>>();
+    warmup_.sources = warmup.at("sources").get<std::vector<std::uint32_t>>();
+    warmup_.source_names = warmup.at("source_names").get<std::vector<std::string>>();
+    if (warmup_.values.size() != warmup_.times.size() * features_.dims()) {
+      return Status::Corruption("pipeline state: warm-up buffer sizes disagree");
+    }
+    samples_.clear();
+    for (const auto& entry : state.at("samples")) {
+      OpenSample& sample = samples_[entry.at("slot").get<std::uint64_t>()];
+      sample.source = entry.at("source").get<std::string>();
+      sample.sample_id = entry.at("sample_id").get<std::string>();
+      sample.volume_ml = OptionalFromJson(entry.at("volume_ml"));
+      sample.tally = SampleTallyFromJson(entry.at("tally"));
+      sample.held = entry.at("held").get<std::uint64_t>();
+      sample.closed = entry.at("closed").get<bool>();
+      sample.has_particles = entry.at("has_particles").get<bool>();
+    }
+    open_slot_by_name_.clear();
+    for (const auto& entry : state.at("open_samples")) {
+      open_slot_by_name_[{entry.at(0).get<std::string>(), entry.at(1).get<std::string>()}] =
+          entry.at(2).get<std::uint64_t>();
+    }
+    next_slot_ = state.at("next_slot").get<std::uint64_t>();
+    const auto& counters = state.at("counters");
+    counters_.rows = counters.at("rows").get<std::uint64_t>();
+    counters_.accepted = counters.at("accepted").get<std::uint64_t>();
+    counters_.rejected = counters.at("rejected").get<std::uint64_t>();
+    counters_.unclassified = counters.at("unclassified").get<std::uint64_t>();
+    counters_.rejected_by_reason =
+        counters.at("rejected_by_reason").get<std::array<std::uint64_t, kRejectReasonCount>>();
+    counters_.files = counters.at("files").get<std::uint64_t>();
+    counters_.samples = counters.at("samples").get<std::uint64_t>();
+    counters_.volume_ml = counters.at("volume_ml").get<double>();
+    totals_.clear();
+    for (const auto& entry : state.at("totals")) {
+      totals_[entry.at(0).get<std::uint32_t>()] = entry.at(1).get<std::uint64_t>();
+    }
+    labels_.clear();
+    for (const auto& entry : state.at("labels")) {
+      labels_[entry.at(0).get<std::uint32_t>()] = entry.at(1).get<std::string>();
+    }
+    earliest_seconds_ = OptionalFromJson(state.at("earliest_seconds"));
+    latest_seconds_ = OptionalFromJson(state.at("latest_seconds"));
+  } catch (const nlohmann::json::exception& error) {
+    return Status::Corruption(std::string("pipeline state is malformed: ") + error.what());
+  }
+  if (model_) UpdateCountFileClusters();
+  return Status::Ok();
 }
 
 }  // namespace seston

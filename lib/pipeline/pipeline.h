@@ -26,12 +26,14 @@
 #include <map>
 #include <memory>
 #include <optional>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
 
 #include <nlohmann/json.hpp>
 
+#include "alerts/alert_writer.h"
 #include "base/file_system.h"
 #include "base/status.h"
 #include "config/config.h"
@@ -41,6 +43,7 @@
 #include "ingest/csv_reader.h"
 #include "ingest/particle_batch.h"
 #include "model/mini_batch_kmeans.h"
+#include "pipeline/drift_monitor.h"
 
 namespace seston {
 
@@ -108,12 +111,18 @@ class Pipeline {
   // `all`), fsyncs the count files.
   Status WriteCountFiles(bool all);
 
+  // A technician accepts the present state as the new normal (POST /v1/baseline).
+  Status AcceptBaseline();
+  // Alert files written since the last call, for the alert hook (run off this thread).
+  std::vector<std::filesystem::path> TakeNewAlertFiles();
+
   bool warming_up() const { return !model_.has_value(); }
   std::size_t warmup_held() const { return warmup_.times.size(); }
   const PipelineCounters& counters() const { return counters_; }
   const MiniBatchKMeans* model() const { return model_ ? &*model_ : nullptr; }
   const FeaturePipeline& features() const { return features_; }
   const CountBook& counts() const { return counts_; }
+  const DriftMonitor& drift() const { return drift_; }
   const Config& config() const { return config_; }
   // Particles counted per cluster since the start (id 0 = unclassified).
   const std::map<std::uint32_t, std::uint64_t>& cluster_totals() const { return totals_; }
@@ -155,13 +164,18 @@ class Pipeline {
   };
 
   Pipeline(const Config& config, FileSystem& fs, FeaturePipeline features, CsvReader csv,
-           CountBook counts, CountFileWriter writer);
+           CountBook counts, CountFileWriter writer, DriftMonitor drift,
+           AlertWriter alert_writer);
 
   // Shared by the file and socket paths: `transformed` has one row per kept row.
   Status Accept(const ParticleBatch& batch, const std::vector<std::size_t>& kept_rows,
                 RowMatrix transformed, const std::vector<std::uint64_t>& slots,
                 AssignmentSink* sink);
   Status EndWarmup(AssignmentSink* sink);
+  // Feeds one classified chunk to the drift monitor and writes the alert events.
+  Status ObserveDrift(std::span<const std::uint32_t> ids, std::span<const double> distances,
+                      std::span<const double> seconds);
+  void UpdateCountFileClusters();
   void Tally(std::uint64_t slot, double seconds, std::uint32_t cluster_id);
   Status FinalizeReadySamples();
   std::uint64_t SlotFor(const std::string& source, const std::string& sample_id);
@@ -172,6 +186,9 @@ class Pipeline {
   CsvReader csv_;
   CountBook counts_;
   CountFileWriter writer_;
+  DriftMonitor drift_;
+  AlertWriter alert_writer_;
+  std::vector<std::filesystem::path> new_alert_files_;
   std::optional<MiniBatchKMeans> model_;
   WarmupBuffer warmup_;
   std::map<std::uint64_t, OpenSample> samples_;
