@@ -26,6 +26,11 @@
 
 namespace seston {
 
+// Most steps one series request may ask for.
+inline constexpr int kMaxSeriesSteps = 1000;
+// Most particles one recent-particles request may ask for.
+inline constexpr std::size_t kMaxRecentParticles = 10000;
+
 class ApiBackend {
  public:
   virtual ~ApiBackend() = default;
@@ -61,6 +66,18 @@ class ApiBackend {
 
   // Prometheus text exposition format, version 0.0.4; may be empty.
   virtual std::string Metrics() = 0;
+
+  // Counts in `steps` consecutive steps of `step_seconds` ending at `to_seconds` (else
+  // where Counts would end its default window). The router has checked the arguments:
+  // step_seconds > 0, 1 <= steps <= kMaxSeriesSteps. The default asks Counts once per
+  // step; an error of Counts (e.g. FailedPrecondition while nothing is counted) is
+  // returned as is. Clusters are those of any step, with their labels.
+  virtual Result<SeriesView> Series(std::optional<double> to_seconds, double step_seconds,
+                                    int steps);
+
+  // The newest classified particles, at most `limit` (>= 1), oldest first. The default
+  // has none.
+  virtual RecentParticlesView RecentParticles(std::size_t limit);
 };
 
 }  // namespace seston

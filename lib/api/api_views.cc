@@ -71,4 +71,36 @@ nlohmann::json ToJson(const std::vector<ClusterView>& clusters) {
   return {{"clusters", std::move(list)}};
 }
 
+nlohmann::json ToJson(const SeriesView& series) {
+  nlohmann::json clusters = nlohmann::json::array();
+  for (const auto& [id, label] : series.clusters) clusters.push_back({{"id", id}, {"label", label}});
+  nlohmann::json points = nlohmann::json::array();
+  for (const CountsView& point : series.points) {
+    nlohmann::json concentrations = nlohmann::json::object();
+    for (const CountsView::Row& row : point.clusters) {
+      concentrations[std::to_string(row.id)] = OptionalNumber(row.concentration_per_ml);
+    }
+    points.push_back({{"from", FormatIso8601(point.from_seconds)},
+                      {"volume_ml", point.volume_ml},
+                      {"total", point.total},
+                      {"unclassified_per_ml", OptionalNumber(point.unclassified_per_ml)},
+                      {"concentration_per_ml", std::move(concentrations)}});
+  }
+  return {{"from", FormatIso8601(series.from_seconds)},
+          {"to", FormatIso8601(series.to_seconds)},
+          {"step_seconds", series.step_seconds},
+          {"clusters", std::move(clusters)},
+          {"points", std::move(points)}};
+}
+
+nlohmann::json ToJson(const RecentParticlesView& recent) {
+  nlohmann::json particles = nlohmann::json::array();
+  for (const RecentParticlesView::Particle& particle : recent.particles) {
+    particles.push_back({{"time", FormatIso8601(particle.time_seconds, /*millis=*/true)},
+                         {"cluster", particle.cluster},
+                         {"values", particle.values}});
+  }
+  return {{"columns", recent.columns}, {"particles", std::move(particles)}};
+}
+
 }  // namespace seston

@@ -15,6 +15,12 @@
 //             volume_ml, total}
 //   clusters {clusters: [{id, label, count, centre: {column: value}, spread, born_time,
 //             retired}]}
+//   series   {from, to, step_seconds, clusters: [{id, label}], points: [{from, volume_ml,
+//             total, unclassified_per_ml, concentration_per_ml: {"ID": value}}]}
+//             (a cluster absent from a point's map had no particle there; every value
+//             null when the point analysed no water)
+//   recent   {columns: [feature column...], particles: [{time, cluster, values: [...]}]}
+//             newest last; values in the input's units, in the order of columns
 #pragma once
 
 #include <cstdint>
@@ -71,9 +77,31 @@ struct ClusterView {
   bool retired = false;
 };
 
+// Concentration over consecutive equal time steps (the status page's line plots).
+struct SeriesView {
+  double from_seconds = 0;  // first step starts here; event time
+  double to_seconds = 0;    // last step ends here
+  double step_seconds = 0;
+  std::vector<std::pair<std::uint32_t, std::string>> clusters;  // id, label; ascending id
+  std::vector<CountsView> points;  // one per step, from oldest to newest
+};
+
+// The newest classified particles, for the status page's scatter plot.
+struct RecentParticlesView {
+  std::vector<std::string> columns;  // feature columns, model order
+  struct Particle {
+    double time_seconds = 0;
+    std::uint32_t cluster = 0;   // 0 = unclassified
+    std::vector<double> values;  // input units, one per column
+  };
+  std::vector<Particle> particles;  // oldest first
+};
+
 nlohmann::json ToJson(const HealthView& health);
 nlohmann::json ToJson(const CountsView& counts);
 // {"clusters": [...]}.
 nlohmann::json ToJson(const std::vector<ClusterView>& clusters);
+nlohmann::json ToJson(const SeriesView& series);
+nlohmann::json ToJson(const RecentParticlesView& recent);
 
 }  // namespace seston

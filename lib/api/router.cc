@@ -8,6 +8,7 @@
 #include <set>
 
 #include "api/query_string.h"
+#include "api/status_page.h"
 #include "base/time_format.h"
 
 namespace seston {
@@ -174,11 +175,8 @@ std::string LabelProblem(std::string_view label) {
 }
 
 HttpResponse RootPage() {
-  return {200,
-          "text/html; charset=utf-8",
-          "<!doctype html><title>sestond</title><p>sestond is running: see "
-          "<a href=\"/v1/health\">/v1/health</a>.</p>\n",
-          {}};
+  return {200, "text/html; charset=utf-8", std::string(StatusPageHtml()),
+          {{"Cache-Control", "no-cache"}}};
 }
 
 HttpResponse Counts(const QueryParameters& parameters, ApiBackend& backend) {
@@ -219,6 +217,67 @@ HttpResponse Counts(const QueryParameters& parameters, ApiBackend& backend) {
   Result<CountsView> counts = backend.Counts(from, to, window);
   if (!counts.ok()) return StatusResponse(counts.status());
   return JsonResponse(200, ToJson(*counts));
+}
+
+// A whole number from `min` to `max` in `text`, or nullopt.
+std::optional<long long> ParseWholeNumber(std::string_view text, long long min, long long max) {
+  long long value = 0;
+  auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), value);
+  if (error != std::errc() || end != text.data() + text.size() || value < min || value > max) {
+    return std::nullopt;
+  }
+  return value;
+}
+
+HttpResponse Series(const QueryParameters& parameters, ApiBackend& backend) {
+  if (auto bad = CheckParameters(parameters, {"step", "steps", "to"})) return *bad;
+  double step = 3600;
+  long long steps = 24;
+  std::optional<double> to;
+  if (auto it = parameters.find("step"); it != parameters.end()) {
+    Result<double> seconds = ParseDurationSeconds(it->second);
+    if (!seconds.ok()) return ErrorResponse(400, "step: " + seconds.status().message());
+    step = *seconds;
+  }
+  if (auto it = parameters.find("steps"); it != parameters.end()) {
+    std::optional<long long> parsed = ParseWholeNumber(it->second, 1, kMaxSeriesSteps);
+    if (!parsed) {
+      return ErrorResponse(400, "steps must be a whole number from 1 to " +
+                                    std::to_string(kMaxSeriesSteps) + ", got \"" + it->second +
+                                    "\"");
+    }
+    steps = *parsed;
+  }
+  if (auto it = parameters.find("to"); it != parameters.end()) {
+    to = ParseEventTime(it->second);
+    if (!to) {
+      return ErrorResponse(400, "to must be an ISO 8601 UTC time such as 2026-12-02T03:04:05Z, "
+                                "or epoch seconds, got \"" + it->second + "\"");
+    }
+  }
+  if (step * static_cast<double>(steps) > kMaxCountWindowSeconds) {
+    return ErrorResponse(400, "step x steps spans more than the 400 days a query may span");
+  }
+  Result<SeriesView> series = backend.Series(to, step, static_cast<int>(steps));
+  if (!series.ok()) return StatusResponse(series.status());
+  return JsonResponse(200, ToJson(*series));
+}
+
+HttpResponse RecentParticles(const QueryParameters& parameters, ApiBackend& backend) {
+  if (auto bad = CheckParameters(parameters, {"limit"})) return *bad;
+  constexpr std::size_t kDefaultLimit = 2000;
+  std::size_t limit = kDefaultLimit;
+  if (auto it = parameters.find("limit"); it != parameters.end()) {
+    std::optional<long long> parsed =
+        ParseWholeNumber(it->second, 1, static_cast<long long>(kMaxRecentParticles));
+    if (!parsed) {
+      return ErrorResponse(400, "limit must be a whole number from 1 to " +
+                                    std::to_string(kMaxRecentParticles) + ", got \"" +
+                                    it->second + "\"");
+    }
+    limit = static_cast<std::size_t>(*parsed);
+  }
+  return JsonResponse(200, ToJson(backend.RecentParticles(limit)));
 }
 
 HttpResponse SetLabel(std::uint32_t id, const HttpRequest& request, ApiBackend& backend) {
@@ -268,7 +327,8 @@ HttpResponse RouteOrThrow(const HttpRequest& request, ApiBackend& backend,
   bool write = false;
   std::optional<std::string_view> label_id = LabelPathId(path);
   if (path == "/" || path == "/v1/health" || path == "/v1/counts" || path == "/v1/clusters" ||
-      path == "/v1/alerts" || path == "/metrics") {
+      path == "/v1/alerts" || path == "/metrics" || path == "/v1/series" ||
+      path == "/v1/particles/recent") {
     allow = "GET";
   } else if (label_id) {
     allow = "PUT";
@@ -279,8 +339,9 @@ HttpResponse RouteOrThrow(const HttpRequest& request, ApiBackend& backend,
   } else {
     constexpr std::size_t kEchoedPathBytes = 200;
     return ErrorResponse(404, "no endpoint at \"" + std::string(path.substr(0, kEchoedPathBytes)) +
-                                  "\"; see GET /v1/health, /v1/counts, /v1/clusters, "
-                                  "/v1/alerts, /metrics, PUT /v1/clusters/ID/label, "
+                                  "\"; see GET /v1/health, /v1/counts, /v1/series, "
+                                  "/v1/clusters, /v1/particles/recent, /v1/alerts, /metrics, "
+                                  "PUT /v1/clusters/ID/label, "
                                   "POST /v1/baseline");
   }
   if (request.method != allow) {
@@ -295,6 +356,8 @@ HttpResponse RouteOrThrow(const HttpRequest& request, ApiBackend& backend,
   Result<QueryParameters> parameters = ParseQuery(query);
   if (!parameters.ok()) return ErrorResponse(400, parameters.status().message());
   if (path == "/v1/counts") return Counts(*parameters, backend);
+  if (path == "/v1/series") return Series(*parameters, backend);
+  if (path == "/v1/particles/recent") return RecentParticles(*parameters, backend);
   if (auto bad = CheckParameters(*parameters, {})) return *bad;
 
   if (path == "/") return RootPage();

@@ -5,13 +5,18 @@
 // Route never throws: an exception escaping the backend becomes a 500.
 //
 // Endpoints (JSON unless said otherwise; shapes in api/api_views.h):
-//   GET  /                          placeholder HTML page (text/html)
+//   GET  /                          the status page (text/html, api/status_page.h)
 //   GET  /v1/health                 HealthView; always 200, "state" says how things are
 //   GET  /v1/counts                 CountsView over an event-time window, chosen by
 //          ?window=DURATION           "3600", "3600s", "90m", "1h", "2d" (0 < w <= 400 d)
 //          ?from=TIME&to=TIME         ISO 8601 UTC or epoch seconds (ParseEventTime)
 //        "to" may go with either; "window" and "from" exclude each other; no parameter
 //        means the backend's default window ending at the latest event time.
+//   GET  /v1/series                 SeriesView: concentrations in equal steps,
+//          ?step=DURATION             each step's width, as window above (default 1h)
+//          ?steps=N                   1..1000 steps (default 24)
+//          ?to=TIME                   end of the last step (default: as /v1/counts)
+//   GET  /v1/particles/recent       RecentParticlesView; ?limit=N, 1..10000 (default 2000)
 //   GET  /v1/clusters               {"clusters": [ClusterView...]}
 //   PUT  /v1/clusters/{id}/label    body {"label": "..."}, 1..64 printable UTF-8
 //                                   characters, no control characters, no space at
