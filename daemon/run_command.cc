@@ -1,12 +1,221 @@
-#include <cstdio>
+// sestond run: wires the live daemon together. Threads:
+//   main      the pipeline thread: ServiceLoop::Run owns the StationService;
+//   io        one Boost.Asio io_context thread: HTTP API, drop-directory watcher, socket
+//             server and the signal set (every handler there is short and never waits
+//             for the pipeline, except an API write, which waits for its own answer);
+//   hook      the alert hook (AlertHookRunner).
+// Shutdown order on SIGTERM/SIGINT: the watcher stops, the loop finishes the file or
+// batch in hand and writes closed bins and a last checkpoint (answering socket commits),
+// then the socket server and the API close their connections and the io thread ends.
+#include <spdlog/spdlog.h>
 
+#include <boost/asio/executor_work_guard.hpp>
+#include <boost/asio/io_context.hpp>
+#include <boost/asio/post.hpp>
+#include <boost/asio/signal_set.hpp>
+#include <chrono>
+#include <csignal>
+#include <cstdio>
+#include <exception>
+#include <memory>
+#include <string>
+#include <thread>
+#include <vector>
+
+#include "api/api_token.h"
+#include "api/http_server.h"
+#include "base/clock.h"
+#include "base/command_line.h"
+#include "base/file_system.h"
+#include "config/config_loader.h"
+#include "daemon/alert_hook_runner.h"
 #include "daemon/commands.h"
+#include "daemon/logging.h"
+#include "ingest/drop_directory_watcher.h"
+#include "ingest/record_queue.h"
+#include "ingest/socket_server.h"
+#include "pipeline/service_backend.h"
+#include "pipeline/service_loop.h"
+#include "pipeline/station_service.h"
 
 namespace seston::daemon {
+namespace {
 
-int RunCommand(const std::vector<std::string>&) {
-  std::fputs("sestond run: the live daemon is not built yet; use sestond replay\n", stderr);
-  return kExitFailed;
+// How long the io thread may take, after the pipeline stopped, to deliver the last
+// replies and close connections (the socket server allows itself 2 s).
+constexpr auto kCloseDeadline = std::chrono::seconds(5);
+
+std::string SocketText(const InputOptions& input) {
+  std::string text;
+  if (!input.socket.listen.empty()) text = "tcp " + input.socket.listen;
+  if (!input.socket.unix_path.empty()) {
+    text += (text.empty() ? "unix " : ", unix ") + input.socket.unix_path;
+  }
+  return text.empty() ? "off" : text;
+}
+
+int Serve(const Config& config) {
+  FileSystem& fs = PosixFileSystem::Instance();
+  const Clock& clock = SystemClock::Instance();
+
+  std::string token;
+  if (config.api.token_file.empty()) {
+    spdlog::warn("api.token_file is not set: label and baseline writes are refused (403)");
+  } else {
+    auto loaded = LoadApiToken(fs, config.api.token_file);
+    if (!loaded.ok()) {
+      spdlog::error("api.token_file: {}", loaded.status().message());
+      return kExitUsage;
+    }
+    token = std::move(*loaded);
+  }
+
+  auto service = StationService::Create(config, fs, clock, SESTON_VERSION);
+  if (!service.ok()) {
+    spdlog::error("cannot start: {}", service.status().message());
+    return kExitFailed;
+  }
+  auto hooks = AlertHookRunner::Create(config.alerts, clock);
+  if (!hooks.ok()) {
+    spdlog::error("alerts.hook_command: {}", hooks.status().message());
+    return kExitUsage;
+  }
+
+  boost::asio::io_context io;
+  auto work = boost::asio::make_work_guard(io);
+  const SocketOptions& socket_options = config.input.socket;
+  const bool socket_wanted = !socket_options.listen.empty() || !socket_options.unix_path.empty();
+  RecordQueue queue(std::max<std::size_t>(1, socket_options.max_queued_records),
+                    std::max<std::size_t>(1, socket_options.max_queued_bytes));
+
+  std::unique_ptr<DropDirectoryWatcher> watcher;
+  ServiceLoop::Inputs inputs;
+  inputs.ready_files = [&watcher] { return watcher->ReadyFiles(); };
+  inputs.mark_handled = [&watcher](const std::string& name) { watcher->MarkHandled(name); };
+  inputs.forget = [&watcher](const std::string& name) { watcher->Forget(name); };
+  inputs.records = socket_wanted ? &queue : nullptr;
+  inputs.alert_files = [&hooks](std::vector<std::filesystem::path> files) {
+    (*hooks)->Enqueue(std::move(files));
+  };
+  ServiceLoop loop(**service, std::move(inputs));
+
+  auto created_watcher = DropDirectoryWatcher::Create(io, config.input, fs, clock,
+                                                      [&loop] { loop.NotifyFilesReady(); });
+  if (!created_watcher.ok()) {
+    spdlog::error("drop directory: {}", created_watcher.status().message());
+    return kExitFailed;
+  }
+  watcher = std::move(*created_watcher);
+
+  ServiceBackend backend((*service)->shared_board(), loop, clock, [&watcher, &queue, &loop] {
+    return ServiceBackend::Backlog{watcher->tracked_files() + loop.files_in_hand(), queue.size()};
+  });
+  auto http = HttpServer::Create(io, config.api, backend, token);
+  if (!http.ok()) {
+    spdlog::error("api.listen: {}", http.status().message());
+    return kExitFailed;
+  }
+  std::unique_ptr<SocketServer> socket;
+  if (socket_wanted) {
+    auto created = SocketServer::Create(io, config.input, queue);
+    if (!created.ok()) {
+      spdlog::error("input.socket: {}", created.status().message());
+      return kExitFailed;
+    }
+    socket = std::move(*created);
+  }
+
+  boost::asio::signal_set signals(io, SIGINT, SIGTERM);
+  signals.async_wait([&](const boost::system::error_code& error, int signal_number) {
+    if (error) return;
+    spdlog::info("signal {}: stopping; no new files, finishing the work in hand", signal_number);
+    watcher->Stop();
+    loop.RequestStop();
+  });
+
+  (*http)->Start();
+  if (Status started = watcher->Start(); !started.ok()) {
+    spdlog::error("drop directory: {}", started.message());
+    return kExitFailed;
+  }
+  if (socket) socket->Start();
+  spdlog::info(
+      "sestond {} running for \"{}\": drop directory {}, API http://127.0.0.1:{} ({}), "
+      "socket {}{}",
+      SESTON_VERSION, config.station, config.input.drop_dir, (*http)->port(), config.api.listen,
+      SocketText(config.input),
+      socket && socket->port() != 0 ? " port " + std::to_string(socket->port()) : "");
+
+  std::thread io_thread([&io] {
+    try {
+      io.run();
+    } catch (const std::exception& error) {
+      spdlog::error("io thread stopped by an exception: {}", error.what());
+    }
+  });
+
+  Status finished = loop.Run();
+  if (finished.ok()) {
+    spdlog::info("state saved; closing connections");
+  } else {
+    spdlog::error(
+        "the last checkpoint could not be written ({}); the previous one stands and "
+        "work after it is done again at the next start",
+        finished.message());
+  }
+
+  boost::asio::post(io, [&] {
+    boost::system::error_code ignored;
+    signals.cancel(ignored);
+    watcher->Stop();
+  });
+  if (socket) socket->Stop();
+  (*http)->Stop();
+  queue.Close();
+  work.reset();
+  const auto deadline = std::chrono::steady_clock::now() + kCloseDeadline;
+  while (!io.stopped() && std::chrono::steady_clock::now() < deadline) {
+    std::this_thread::sleep_for(std::chrono::milliseconds(20));
+  }
+  io.stop();
+  io_thread.join();
+  spdlog::info("stopped");
+  return finished.ok() ? kExitOk : kExitFailed;
+}
+
+}  // namespace
+
+int RunCommand(const std::vector<std::string>& args) {
+  CommandLine cli("sestond run",
+                  "Runs the live daemon: takes sample files from the drop directory and NDJSON\n"
+                  "records from the socket, groups and counts every particle, writes count files\n"
+                  "and alert files, checkpoints its state so that nothing is lost or counted\n"
+                  "twice, and answers the HTTP API (see sestonctl). Stops cleanly on SIGTERM or\n"
+                  "SIGINT. Logs go to stderr.");
+  cli.AddOption("config", "FILE", "the config file (YAML)");
+  Status parsed = cli.Parse(args);
+  if (cli.help_requested()) {
+    std::fputs(cli.Help().c_str(), stdout);
+    return kExitOk;
+  }
+  if (parsed.ok() && !cli.Has("config")) {
+    parsed = Status::InvalidArgument("sestond run: --config FILE is required");
+  }
+  if (parsed.ok() && !cli.positionals().empty()) {
+    parsed = Status::InvalidArgument("sestond run: unexpected argument \"" +
+                                     cli.positionals().front() + "\" (only --config FILE)");
+  }
+  if (!parsed.ok()) {
+    std::fprintf(stderr, "%s\n%s", parsed.message().c_str(), cli.Usage().c_str());
+    return kExitUsage;
+  }
+  auto config = LoadConfig(PosixFileSystem::Instance(), *cli.Get("config"));
+  if (!config.ok()) {
+    std::fprintf(stderr, "%s\n", config.status().message().c_str());
+    return kExitUsage;
+  }
+  SetUpLogging(config->logging);
+  return Serve(*config);
 }
 
 }  // namespace seston::daemon
