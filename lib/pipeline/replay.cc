@@ -7,6 +7,7 @@
 #include <set>
 
 #include "pipeline/assignment_csv_writer.h"
+#include "pipeline/file_prefetcher.h"
 #include "pipeline/pipeline.h"
 #include "pipeline/progress_meter.h"
 
@@ -57,8 +58,8 @@ Result<std::vector<std::filesystem::path>> ListReplayFiles(
   return files;
 }
 
-Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& request,
-                                 FileSystem& fs, const Clock& clock, std::FILE* progress) {
+Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& request, FileSystem& fs,
+                                 const Clock& clock, std::FILE* progress) {
   SESTON_ASSIGN_OR_RETURN(auto files, ListReplayFiles(fs, request.paths, config.input.file_suffix));
   if (files.empty()) {
     return Status::NotFound("no input files ending in " + config.input.file_suffix +
@@ -70,23 +71,36 @@ Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& requ
     SESTON_ASSIGN_OR_RETURN(assignments, AssignmentCsvWriter::Create(*request.assignments_csv));
   }
 
-  ProgressMeter meter(progress != nullptr ? progress : stderr, clock, files.size(),
-                      request.quiet || progress == nullptr);
-  nlohmann::json skipped = nlohmann::json::array();
+  std::uint64_t total_bytes = 0;
   for (const auto& file : files) {
-    auto bytes = fs.ReadFile(file, config.input.max_file_bytes);
-    if (!bytes.ok()) {
-      skipped.push_back({{"file", file.string()}, {"reason", bytes.status().message()}});
+    if (auto info = fs.Stat(file); info.ok()) total_bytes += info->size_bytes;
+  }
+  ProgressMeter meter(progress, clock, files.size(), total_bytes,
+                      request.quiet || progress == nullptr);
+  SESTON_ASSIGN_OR_RETURN(auto prefetcher, FilePrefetcher::Create(fs, pipeline->csv_reader(), files,
+                                                                  config.input.max_file_bytes,
+                                                                  request.read_ahead_files));
+  nlohmann::json skipped = nlohmann::json::array();
+  auto skip = [&](const PrefetchedFile& file, const Status& status) {
+    skipped.push_back({{"file", file.path.string()}, {"reason", status.message()}});
+    meter.FileSkipped(file.bytes);
+  };
+  while (auto file = prefetcher->Next()) {
+    if (file->failure == PrefetchedFile::Failure::kRead) {
+      skip(*file, file->status);
       continue;
     }
-    auto outcome = pipeline->ProcessFile(file.string(), *bytes, assignments.get());
+    auto outcome = file->failure == PrefetchedFile::Failure::kParse
+                       ? Result<FileOutcome>(file->status)
+                       : pipeline->ProcessParsed(file->path.string(), std::move(file->parsed),
+                                                 assignments.get());
     if (!outcome.ok()) {
       if (outcome.status().code() != StatusCode::kInvalidArgument) return outcome.status();
-      skipped.push_back({{"file", file.string()}, {"reason", outcome.status().message()}});
+      skip(*file, outcome.status());
       continue;
     }
     SESTON_RETURN_IF_ERROR(pipeline->WriteCountFiles(/*all=*/false));
-    meter.FileDone(bytes->size(), outcome->data_rows);
+    meter.FileDone(file->bytes, outcome->data_rows);
   }
   SESTON_RETURN_IF_ERROR(pipeline->FinishWarmup(assignments.get()));
   SESTON_RETURN_IF_ERROR(pipeline->WriteCountFiles(/*all=*/true));
@@ -113,26 +127,29 @@ std::string FormatSummaryTable(const nlohmann::json& summary) {
   for (const auto& cluster : summary["clusters"]) {
     if (cluster.value("retired", false)) continue;
     auto count = cluster["count"].get<std::uint64_t>();
-    double share = accepted > 0 ? 100.0 * static_cast<double>(count) / static_cast<double>(accepted) : 0.0;
-    std::snprintf(line, sizeof line, "%6u  %-28.28s %12" PRIu64 " %8.2f %12.3f\n",
-                  cluster["id"].get<unsigned>(), cluster["label"].get<std::string>().c_str(),
-                  count, share, cluster["concentration_per_ml"].is_number()
-                                    ? cluster["concentration_per_ml"].get<double>()
-                                    : 0.0);
+    double share =
+        accepted > 0 ? 100.0 * static_cast<double>(count) / static_cast<double>(accepted) : 0.0;
+    std::snprintf(
+        line, sizeof line, "%6u  %-28.28s %12" PRIu64 " %8.2f %12.3f\n",
+        cluster["id"].get<unsigned>(), cluster["label"].get<std::string>().c_str(), count, share,
+        cluster["concentration_per_ml"].is_number() ? cluster["concentration_per_ml"].get<double>()
+                                                    : 0.0);
     out += line;
   }
   auto unclassified = particles["unclassified"].get<std::uint64_t>();
-  std::snprintf(line, sizeof line, "%6s  %-28s %12" PRIu64 " %8.2f\n", "0", "unclassified",
-                unclassified,
-                accepted > 0 ? 100.0 * static_cast<double>(unclassified) / static_cast<double>(accepted) : 0.0);
+  std::snprintf(
+      line, sizeof line, "%6s  %-28s %12" PRIu64 " %8.2f\n", "0", "unclassified", unclassified,
+      accepted > 0 ? 100.0 * static_cast<double>(unclassified) / static_cast<double>(accepted)
+                   : 0.0);
   out += line;
   std::snprintf(line, sizeof line, "%6s  %-28s %12" PRIu64 "\n", "-", "rejected rows",
                 particles["rejected"].get<std::uint64_t>());
   out += line;
-  std::snprintf(line, sizeof line, "%u samples, %.1f mL analysed, %s to %s\n",
-                summary["samples"].get<unsigned>(), summary["volume_ml"].get<double>(),
-                summary["first_time"].is_string() ? summary["first_time"].get<std::string>().c_str() : "-",
-                summary["last_time"].is_string() ? summary["last_time"].get<std::string>().c_str() : "-");
+  std::snprintf(
+      line, sizeof line, "%u samples, %.1f mL analysed, %s to %s\n",
+      summary["samples"].get<unsigned>(), summary["volume_ml"].get<double>(),
+      summary["first_time"].is_string() ? summary["first_time"].get<std::string>().c_str() : "-",
+      summary["last_time"].is_string() ? summary["last_time"].get<std::string>().c_str() : "-");
   out += line;
   return out;
 }

@@ -12,16 +12,22 @@
 // input order; cluster_id 0 = unclassified; distance in z units), optional summary JSON,
 // and a human table of groups and counts.
 //
-// Thread safety: one call at a time.
+// Speed: the next files are read (whole, one read per file) and parsed on a second
+// thread while the pipeline thread clusters the current one (ReplayRequest::
+// read_ahead_files); files are still taken strictly in order, so the outputs are the same
+// byte for byte with or without read-ahead. Memory stays bounded by a few files whatever
+// the number of files. tools/reports/performance.md has the measured figures.
+//
+// Thread safety: one call at a time. With read-ahead, `fs` is used from two threads.
 #pragma once
 
+#include <cstddef>
 #include <cstdio>
 #include <filesystem>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "base/clock.h"
 #include "base/file_system.h"
@@ -31,10 +37,13 @@
 namespace seston {
 
 struct ReplayRequest {
-  std::vector<std::filesystem::path> paths;             // files or directories
+  std::vector<std::filesystem::path> paths;              // files or directories
   std::optional<std::filesystem::path> assignments_csv;  // one row per accepted particle
   std::optional<std::filesystem::path> summary_json;
-  bool quiet = false;                                    // no progress line
+  bool quiet = false;  // no progress line
+  // Parsed files read ahead on a second thread while the pipeline clusters (see
+  // pipeline/file_prefetcher.h); 0 reads and parses in line. Outputs do not depend on it.
+  std::size_t read_ahead_files = 2;
 };
 
 // The files a replay of `paths` processes, in processing order.
@@ -43,8 +52,8 @@ Result<std::vector<std::filesystem::path>> ListReplayFiles(
 
 // Runs the replay; returns the summary (also written to summary_json when given).
 // `progress` receives the progress line and the closing summary line (may be null).
-Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& request,
-                                 FileSystem& fs, const Clock& clock, std::FILE* progress);
+Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& request, FileSystem& fs,
+                                 const Clock& clock, std::FILE* progress);
 
 // The human table printed after a replay: one line per group with count, share (%) and
 // concentration (particles per mL), then unclassified and rejected.
