@@ -39,6 +39,7 @@ Pipeline::Pipeline(const Config& config, FileSystem& fs, FeaturePipeline feature
     : config_(config),
       fs_(fs),
       features_(std::move(features)),
+      recent_(features_.columns()),
       csv_(std::move(csv)),
       counts_(std::move(counts)),
       writer_(std::move(writer)),
@@ -210,6 +211,7 @@ Status Pipeline::Accept(const ParticleBatch& batch, const std::vector<std::size_
                          chunk_times);
     for (std::size_t i = 0; i < m; ++i) {
       Tally(slots[start + i], chunk_times[i], ids[i]);
+      recent_.Add(chunk_times[i], ids[i], batch.row(kept_rows[start + i]));
       if (sink != nullptr) {
         sink->Assigned(batch.source, batch.line[kept_rows[start + i]], ids[i], distances[i]);
       }
@@ -252,6 +254,34 @@ void Pipeline::UpdateCountFileClusters() {
     if (!cluster.retired) living.push_back(cluster.id);
   }
   writer_.SetClusters(std::move(living));
+}
+
+Status Pipeline::ApplyLiveConfig(const Config& config) {
+  std::vector<std::string> columns;
+  for (const auto& feature : config_.features.features) columns.push_back(feature.column);
+  InputOptions input = config_.input;
+  input.max_bad_row_fraction = config.input.max_bad_row_fraction;
+  input.max_line_bytes = config.input.max_line_bytes;
+  SESTON_ASSIGN_OR_RETURN(CsvReader csv, CsvReader::Create(input, columns));
+  AlertOptions alerts = config_.alerts;
+  alerts.raise_after = config.alerts.raise_after;
+  alerts.resolve_after = config.alerts.resolve_after;
+  alerts.cooldown_seconds = config.alerts.cooldown_seconds;
+  alerts.recent_kept = config.alerts.recent_kept;
+  alerts.hook_command = config.alerts.hook_command;
+  alerts.hook_timeout_seconds = config.alerts.hook_timeout_seconds;
+  alerts.alertmanager = config.alerts.alertmanager;
+  DriftOptions drift = config.drift;
+  drift.enabled = config_.drift.enabled;  // restart-only: the baseline depends on it
+  SESTON_ASSIGN_OR_RETURN(DriftMonitor monitor,
+                          DriftMonitor::FromJson(drift_.ToJson(), drift, alerts, config_.station));
+  drift_ = std::move(monitor);
+  csv_ = std::move(csv);
+  config_.input = input;
+  config_.alerts = alerts;
+  config_.drift = drift;
+  config_.logging = config.logging;
+  return Status::Ok();
 }
 
 Status Pipeline::AcceptBaseline() {

@@ -44,6 +44,7 @@
 #include "ingest/particle_batch.h"
 #include "model/mini_batch_kmeans.h"
 #include "pipeline/drift_monitor.h"
+#include "pipeline/recent_particles.h"
 
 namespace seston {
 
@@ -136,6 +137,16 @@ class Pipeline {
   // Centre of an active cluster in the input's own units, by column name.
   std::vector<std::pair<std::string, double>> CentreInInputUnits(std::uint32_t id) const;
 
+  // The newest particles classified after warm-up, in input units (status page).
+  const RecentParticles& recent_particles() const { return recent_; }
+
+  // Takes the keys of `config` that a reload applies live (see config/config_diff.h):
+  // drift thresholds and windows, the alert policy and the row limits. The drift
+  // monitor is carried over through its own state with the new options, so nothing it
+  // learnt is lost. On error (the new options do not fit the kept state) nothing
+  // changes. The caller has checked with DiffConfigs that nothing refused changed.
+  Status ApplyLiveConfig(const Config& config);
+
   // The run summary: particles, rejections by reason, k, clusters with centroids.
   nlohmann::json SummaryJson() const;
 
@@ -183,6 +194,7 @@ class Pipeline {
   Config config_;
   FileSystem& fs_;
   FeaturePipeline features_;
+  RecentParticles recent_;
   CsvReader csv_;
   CountBook counts_;
   CountFileWriter writer_;
