@@ -257,7 +257,7 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
   batch.dims = feature_columns_.size();
   SampleInterner samples(&batch);
   if (!layout.sample) {
-    samples.Intern(std::filesystem::path(source_name).stem().string());
+    samples.Intern(EscapeIllFormedUtf8(std::filesystem::path(source_name).stem().string()));
   }
 
   const std::size_t field_count = layout.header.size();
@@ -322,6 +322,12 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
       if (id.empty()) {
         reject(RejectReason::kBadRecord,
                "column " + input_.sample_column + ": the sample id is empty");
+        continue;
+      }
+      if (!IsWellFormedUtf8(id)) {
+        reject(RejectReason::kBadRecord, "column " + input_.sample_column +
+                                             ": the sample id \"" + EscapeIllFormedUtf8(id) +
+                                             "\" is not UTF-8 text");
         continue;
       }
       sample = samples.Intern(id);

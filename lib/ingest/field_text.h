@@ -27,6 +27,13 @@ Status CheckColumnNames(const InputOptions& input, const std::vector<std::string
 // `text` without leading and trailing spaces and tabs.
 std::string_view TrimBlanks(std::string_view text);
 
+// True when `text` is well-formed UTF-8 (RFC 3629: no overlongs, no surrogates, at most
+// U+10FFFF). Sample ids go into JSON checkpoints and answers, which must be UTF-8.
+bool IsWellFormedUtf8(std::string_view text);
+
+// `text` with every byte that is not part of well-formed UTF-8 written as \xNN.
+std::string EscapeIllFormedUtf8(std::string_view text);
+
 // A decimal number (std::from_chars general format, optional leading '+', blanks around
 // allowed). kNotANumber when the text is not one; kNotFinite for nan, inf or a value out
 // of the range of a double.
