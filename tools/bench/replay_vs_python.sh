@@ -1,0 +1,130 @@
+#!/usr/bin/env bash
+# Whole-run benchmark: sestond replay against the Python pipeline a practitioner would
+# write (pandas read_csv + scikit-learn MiniBatchKMeans.partial_fit, python_pipeline.py)
+# and against the read-and-split ceiling (seston-read-lines: read each file whole and
+# find its lines, nothing else; `wc -l` is printed beside it), on the same files, in one
+# run. Prints figures, never fails on them. Not run in CI.
+#
+# Data: seston-sim samples at --concentration-scale 10 (about 8600 particles each), made
+# d = 8 by derive_columns.py (three columns derived from each particle's own values);
+# k = 16, mini-batches of 1024, warm-up 20000 particles in both pipelines.
+# Peak resident memory of replay is measured at two sizes: all files and a quarter.
+#
+# Usage: tools/bench/replay_vs_python.sh BUILD_DIR WORK_DIR [FILES]   (FILES default 280)
+# BUILD_DIR must be configured with -DSESTON_BUILD_BENCHMARKS=ON and have sestond,
+# seston-sim and seston-read-lines built.
+set -euo pipefail
+
+build=${1:?usage: replay_vs_python.sh BUILD_DIR WORK_DIR [FILES]}
+work=${2:?usage: replay_vs_python.sh BUILD_DIR WORK_DIR [FILES]}
+files=${3:-280}
+here=$(cd "$(dirname "$0")" && pwd)
+python=/usr/bin/python3  # Debian's, which has python3-pandas and python3-sklearn
+sestond=$build/daemon/sestond
+sim=$build/tools/seston-sim/seston-sim
+read_lines=$build/tools/bench/seston-read-lines
+
+mkdir -p "$work"
+if [[ ! -f $work/d8/.complete-$files ]]; then
+  rm -rf "$work/raw" "$work/d8" "$work/d8-quarter"
+  "$sim" --out "$work/raw" --samples "$files" --concentration-scale 10 --seed 1 >/dev/null
+  "$python" "$here/derive_columns.py" "$work/raw" "$work/d8"
+  mkdir -p "$work/d8-quarter"
+  ls "$work/d8" | grep '\.csv$' | head -n $((files / 4)) |
+    while read -r name; do ln "$work/d8/$name" "$work/d8-quarter/$name"; done
+  rm -rf "$work/raw"
+  touch "$work/d8/.complete-$files"
+fi
+
+cat >"$work/replay.yaml" <<YAML
+station: "Skerry Sound mooring B (simulated)"
+input:
+  drop_dir: $work/drop
+features:
+  - { column: area_um2, transform: log10 }
+  - { column: esd_um, transform: log10 }
+  - { column: aspect_ratio }
+  - { column: perimeter_um, transform: log10 }
+  - { column: grey_level }
+  - { column: circularity }
+  - { column: biovolume_um3, transform: log10 }
+  - { column: grey_area_um2, transform: log10 }
+standardize: true
+model:
+  k: 16
+  warmup_particles: 20000
+  batch_size: 1024
+  half_life_particles: 200000
+counts:
+  bin_seconds: 300
+  output_dir: $work/out/counts
+alerts:
+  dir: $work/out/alerts
+state:
+  dir: $work/out/state
+YAML
+
+# The same run with the drift detectors off: shows what the detectors cost.
+sed 's/^alerts:/drift:\n  enabled: false\nalerts:/' "$work/replay.yaml" >"$work/replay-no-drift.yaml"
+
+csv_files=("$work"/d8/*.csv)
+cat "${csv_files[@]}" >/dev/null  # every run below reads from the page cache
+bytes=$(cat "${csv_files[@]}" | wc -c)
+
+# Runs "$@" under /usr/bin/time; sets elapsed (s), cpu (user+sys, s), rss (peak, KiB).
+measure() {
+  /usr/bin/time -f '%e %U %S %M' -o "$work/time.txt" "$@" >"$work/stdout.txt"
+  read -r elapsed user sys rss <"$work/time.txt"
+  cpu=$(awk -v u="$user" -v s="$sys" 'BEGIN { printf "%.2f", u + s }')
+}
+
+replay() {  # replay DIR [CONFIG]: a fresh output directory each time
+  rm -rf "$work/out"
+  measure "$sestond" replay --config "${2:-$work/replay.yaml}" --quiet --summary "$work/summary.json" "$1"
+}
+
+measure "$read_lines" "${csv_files[@]}"
+read -r _ _ _ lines _ _ _ _ _ ceiling_seconds <"$work/stdout.txt"
+ceiling_rss=$rss
+wc_start=$(date +%s.%N)
+cat "${csv_files[@]}" | wc -l >/dev/null
+wc_seconds=$(awk -v s="$wc_start" -v e="$(date +%s.%N)" 'BEGIN { printf "%.3f", e - s }')
+
+replay "$work/d8"
+rows=$("$python" -c "import json,sys; print(json.load(open(sys.argv[1]))['particles']['read'])" "$work/summary.json")
+replay_seconds=$elapsed replay_cpu=$cpu replay_rss=$rss
+replay "$work/d8" "$work/replay-no-drift.yaml"
+bare_seconds=$elapsed bare_cpu=$cpu bare_rss=$rss
+
+measure "$python" "$here/python_pipeline.py" "$work/d8" 16 1024 20000
+read -r _ python_rows _ python_seconds _ <"$work/stdout.txt"
+python_total=$elapsed python_cpu=$cpu python_rss=$rss
+
+replay "$work/d8-quarter"
+quarter_rows=$("$python" -c "import json,sys; print(json.load(open(sys.argv[1]))['particles']['read'])" "$work/summary.json")
+quarter_seconds=$elapsed quarter_rss=$rss
+
+rate() { awk -v n="$1" -v s="$2" 'BEGIN { printf "%.0f", n / s }'; }
+ratio() { awk -v a="$1" -v b="$2" 'BEGIN { printf "%.1f", a / b }'; }
+
+echo "machine: $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ *//'),"\
+     "$(awk '/MemTotal/ { printf "%.1f GiB", $2 / 1048576 }' /proc/meminfo), load $(cut -d' ' -f1-3 /proc/loadavg)"
+echo "data: ${#csv_files[@]} files, $rows particles ($python_rows in Python), $bytes bytes, $lines lines, d = 8, k = 16"
+printf '%-34s %10s %10s %14s %12s\n' "run" "wall s" "cpu s" "rows/s (wall)" "peak RSS MiB"
+printf '%-34s %10s %10s %14s %12s\n' "read and split (seston-read-lines)" "$ceiling_seconds" "-" \
+  "$(rate "$lines" "$ceiling_seconds")" "$((ceiling_rss / 1024))"
+printf '%-34s %10s %10s %14s %12s\n' "cat | wc -l" "$wc_seconds" "-" "$(rate "$lines" "$wc_seconds")" "-"
+printf '%-34s %10s %10s %14s %12s\n' "sestond replay" "$replay_seconds" "$replay_cpu" \
+  "$(rate "$rows" "$replay_seconds")" "$((replay_rss / 1024))"
+printf '%-34s %10s %10s %14s %12s\n' "sestond replay, drift off" "$bare_seconds" "$bare_cpu" \
+  "$(rate "$rows" "$bare_seconds")" "$((bare_rss / 1024))"
+printf '%-34s %10s %10s %14s %12s\n' "pandas + sklearn (in-script time)" "$python_seconds" "$python_cpu" \
+  "$(rate "$python_rows" "$python_seconds")" "$((python_rss / 1024))"
+printf '%-34s %10s %10s %14s %12s\n' "sestond replay, quarter of files" "$quarter_seconds" "-" \
+  "$(rate "$quarter_rows" "$quarter_seconds")" "$((quarter_rss / 1024))"
+echo "python process wall incl. imports: $python_total s"
+echo "replay / python rows/s: $(ratio "$(rate "$rows" "$replay_seconds")" "$(rate "$python_rows" "$python_seconds")")x" \
+     "(drift off: $(ratio "$(rate "$rows" "$bare_seconds")" "$(rate "$python_rows" "$python_seconds")")x)"
+echo "replay time / read-and-split time: $(ratio "$replay_seconds" "$ceiling_seconds")x" \
+     "(drift off: $(ratio "$bare_seconds" "$ceiling_seconds")x)"
+echo "replay peak RSS, all files / quarter: $((replay_rss / 1024)) / $((quarter_rss / 1024)) MiB"
