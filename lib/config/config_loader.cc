@@ -1,5 +1,6 @@
 #include "config/config_loader.h"
 
+#include <yaml-cpp/eventhandler.h>
 #include <yaml-cpp/yaml.h>
 
 #include <algorithm>
@@ -11,6 +12,7 @@
 #include <limits>
 #include <map>
 #include <optional>
+#include <sstream>
 #include <system_error>
 #include <utility>
 
@@ -33,6 +35,48 @@ struct Place {
 Place PlaceOf(const YAML::Mark& mark) {
   if (mark.is_null()) return {};
   return {mark.line + 1, mark.column + 1};
+}
+
+// Where each YAML document of a text starts, from yaml-cpp's event parser. Needed
+// because yaml-cpp 0.7's LoadAll never returns on a ',' outside a flow collection (a
+// file holding just ",", or "- a\n,"): its parser yields an empty document at the same
+// place again and again, filling memory. Found by tests/fuzz/config_loader_fuzzer.cc.
+class DocumentStarts final : public YAML::EventHandler {
+ public:
+  void OnDocumentStart(const YAML::Mark& mark) override { marks.push_back(mark); }
+  void OnDocumentEnd() override {}
+  void OnNull(const YAML::Mark&, YAML::anchor_t) override {}
+  void OnAlias(const YAML::Mark&, YAML::anchor_t) override {}
+  void OnScalar(const YAML::Mark&, const std::string&, YAML::anchor_t,
+                const std::string&) override {}
+  void OnSequenceStart(const YAML::Mark&, const std::string&, YAML::anchor_t,
+                       YAML::EmitterStyle::value) override {}
+  void OnSequenceEnd() override {}
+  void OnMapStart(const YAML::Mark&, const std::string&, YAML::anchor_t,
+                  YAML::EmitterStyle::value) override {}
+  void OnMapEnd() override {}
+
+  std::vector<YAML::Mark> marks;
+};
+
+struct DocumentScan {
+  std::vector<YAML::Mark> starts;  // one per document
+  bool stuck = false;              // the parser stopped moving at starts.back()
+};
+
+// Throws YAML::Exception on a syntax error, as LoadAll would.
+DocumentScan ScanDocuments(const std::string& text) {
+  std::istringstream stream(text);
+  YAML::Parser parser(stream);
+  DocumentStarts handler;
+  while (parser.HandleNextDocument(handler)) {
+    const std::size_t count = handler.marks.size();
+    if (count >= 2 && handler.marks[count - 1].pos == handler.marks[count - 2].pos) {
+      handler.marks.pop_back();
+      return {std::move(handler.marks), true};
+    }
+  }
+  return {std::move(handler.marks), false};
 }
 
 // What a node holds, for the "got ..." part of a message.
@@ -861,13 +905,20 @@ std::vector<ConfigProblem> CheckConfig(std::string_view yaml_text, const std::st
   target.source_path = source_name;
   Reader reader(source_name, BaseDirectoryOf(source_name));
   try {
-    const std::vector<YAML::Node> documents = YAML::LoadAll(std::string(yaml_text));
-    if (documents.size() > 1) {
-      reader.Problem(PlaceOf(documents[1].Mark()), "",
-                     "the file holds " + std::to_string(documents.size()) +
+    const std::string text(yaml_text);
+    const DocumentScan scan = ScanDocuments(text);
+    if (scan.stuck) {
+      reader.Problem(PlaceOf(scan.starts.back()), "",
+                     "YAML syntax error: the parser cannot read on from here (a ',' "
+                     "outside a [...] or {...} list?)");
+      return reader.TakeProblems();
+    }
+    if (scan.starts.size() > 1) {
+      reader.Problem(PlaceOf(scan.starts[1]), "",
+                     "the file holds " + std::to_string(scan.starts.size()) +
                          " YAML documents; write one (remove the extra '---')");
     }
-    reader.Read(documents.empty() ? YAML::Node() : documents.front(), target);
+    reader.Read(scan.starts.empty() ? YAML::Node() : YAML::Load(text), target);
   } catch (const YAML::Exception& error) {
     reader.Problem(PlaceOf(error.mark), "", "YAML syntax error: " + error.msg);
   } catch (const std::exception& error) {
