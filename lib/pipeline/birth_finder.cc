@@ -21,8 +21,12 @@ double MedianOf(std::vector<double> values) {
 
 }  // namespace
 
-std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_t min_particles) {
-  const auto& buffer = model.novelty_buffer();
+std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_t min_particles,
+                                        double not_before_seconds) {
+  std::vector<const MiniBatchKMeans::NoveltyPoint*> buffer;
+  for (const auto& entry : model.novelty_buffer()) {
+    if (entry.seconds >= not_before_seconds) buffer.push_back(&entry);
+  }
   if (min_particles == 0 || buffer.size() < min_particles) return std::nullopt;
 
   std::vector<const MiniBatchKMeans::Cluster*> active;
@@ -45,7 +49,7 @@ std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_
   const auto n = static_cast<Eigen::Index>(buffer.size());
   RowMatrix points(n, model.dims());
   for (Eigen::Index i = 0; i < n; ++i) {
-    points.row(i) = buffer[static_cast<std::size_t>(i)].point.transpose();
+    points.row(i) = buffer[static_cast<std::size_t>(i)]->point.transpose();
   }
 
   std::optional<BirthCandidate> best;
@@ -82,7 +86,7 @@ std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_
       candidate.nearest_distance = nearest_distance;
       candidate.first_seconds = std::numeric_limits<double>::infinity();
       for (Eigen::Index i = 0; i < n; ++i) {
-        const auto& entry = buffer[static_cast<std::size_t>(i)];
+        const auto& entry = *buffer[static_cast<std::size_t>(i)];
         if (fit->labels[static_cast<std::size_t>(i)] == part &&
             (entry.point - centre).norm() <= candidate.novelty_threshold) {
           candidate.members.push_back(entry.sequence);

@@ -35,6 +35,11 @@ namespace seston {
 
 inline constexpr int kBirthMaxSplit = 3;
 inline constexpr double kBirthSpreadFactor = 1.5;
+// Look-back of a birth, in novelty windows (drift.novelty.window_particles): with the
+// defaults 4 × 5000 particles, in which the tail strays of the known groups (about 0.5 %,
+// 100 particles, scattered around all of them) cannot form a group of 200, while a new
+// kind of particle makes one as soon as it is about 1 % of the stream.
+inline constexpr int kBirthLookbackWindows = 4;
 
 struct BirthCandidate {
   Eigen::VectorXd centre;                // z
@@ -46,6 +51,7 @@ struct BirthCandidate {
   double nearest_distance = 0;           // from the centre to it, z
 };
 
-std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_t min_particles);
+std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_t min_particles,
+                                        double not_before_seconds);
 
 }  // namespace seston

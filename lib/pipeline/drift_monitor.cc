@@ -135,6 +135,7 @@ void DriftMonitor::ClearWindows() {
   recent_unclassified_.clear();
   recent_unclassified_count_ = 0;
   since_evaluation_ = 0;
+  evaluation_seconds_.clear();
 }
 
 void DriftMonitor::PushRecent(std::uint32_t id) {
@@ -187,6 +188,12 @@ std::vector<AlertEvent> DriftMonitor::ObserveSample(double volume_ml, double sec
 
 void DriftMonitor::Evaluate(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
                             const CentreText& centre_text, std::vector<AlertEvent>* events) {
+  const std::size_t lookback =
+      kBirthLookbackWindows * drift_.novelty.window_particles / drift_.evaluate_every_particles;
+  evaluation_seconds_.push_back(seconds);
+  while (evaluation_seconds_.size() > std::max<std::size_t>(1, lookback)) {
+    evaluation_seconds_.pop_front();
+  }
   Births(model, seconds, label_of, centre_text, events);
   Retirements(model, seconds, label_of, events);
   // Each detector can fail only on a broken invariant of this class (no baseline, a
@@ -217,7 +224,8 @@ void DriftMonitor::ObserveReading(const DetectorReading& reading, double seconds
 
 void DriftMonitor::Births(MiniBatchKMeans& model, double seconds, const LabelOf& label_of,
                           const CentreText& centre_text, std::vector<AlertEvent>* events) {
-  std::optional<BirthCandidate> birth = FindBirth(model, drift_.novelty.birth_min_particles);
+  std::optional<BirthCandidate> birth =
+      FindBirth(model, drift_.novelty.birth_min_particles, evaluation_seconds_.front());
   if (!birth) return;
   const auto size = static_cast<double>(birth->members.size());
   const std::uint32_t id = model.AddCluster(birth->centre, size, birth->novelty_threshold,
@@ -329,6 +337,7 @@ nlohmann::json DriftMonitor::ToJson() const {
           {"recent_ids", recent_ids_},
           {"recent_unclassified", unclassified},
           {"since_evaluation", since_evaluation_},
+          {"evaluation_seconds", evaluation_seconds_},
           {"latest", latest},
           {"sequence", sequence_},
           {"active", active},
@@ -361,6 +370,9 @@ Result<DriftMonitor> DriftMonitor::FromJson(const nlohmann::json& state, const D
       monitor.recent_unclassified_count_ += flag != 0 ? 1 : 0;
     }
     monitor.since_evaluation_ = state.at("since_evaluation").get<std::uint64_t>();
+    for (double seconds : state.at("evaluation_seconds").get<std::vector<double>>()) {
+      monitor.evaluation_seconds_.push_back(seconds);
+    }
     for (const nlohmann::json& entry : state.at("latest")) {
       SESTON_ASSIGN_OR_RETURN(DetectorReading reading, ReadingFromJson(entry));
       monitor.latest_[reading.kind] = std::move(reading);

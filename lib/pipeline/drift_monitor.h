@@ -28,7 +28,8 @@
 // The birth and retirement rules below run at the same moments, before the detectors.
 //
 // Births: see pipeline/birth_finder.h for what makes a group in the novelty buffer
-// "tight" and "far" (at least drift.novelty.birth_min_particles points). A group found is
+// "tight" and "far" (at least drift.novelty.birth_min_particles points, arrived within
+// the last kBirthLookbackWindows × drift.novelty.window_particles particles). A group found is
 // added to the model (AddCluster, with a new id that is never reused, weight = its
 // size, born at the evaluation's event time) and its points leave the novelty buffer.
 // At most one birth per evaluation.
@@ -181,6 +182,9 @@ class DriftMonitor {
   std::deque<bool> recent_unclassified_;  // per particle, oldest first
   std::uint64_t recent_unclassified_count_ = 0;
   std::uint64_t since_evaluation_ = 0;  // particles observed since the last evaluation
+  // Event times of the latest evaluations, oldest first, enough of them to span the
+  // birth look-back (kBirthLookbackWindows novelty windows of particles).
+  std::deque<double> evaluation_seconds_;
 
   std::map<std::string, DetectorReading> latest_;
   std::uint64_t sequence_ = 0;
