@@ -67,10 +67,13 @@ scenarios=(
 
 echo "# Drift detection on simulated scenarios"
 echo
-echo "Produced by \`tools/drift-report.sh BUILD_DIR\` (seston-sim + \`sestond replay\`)."
+echo "Produced by \`tools/drift-report.sh BUILD_DIR > tools/reports/drift.md\` (seston-sim +"
+echo "\`sestond replay\`; BUILD_DIR holds both binaries). The same runs are asserted in"
+echo "tests/pipeline/scenario_test.cc."
 echo "Simulated station: seston-sim defaults (start $start, one 5 mL sample every 300 s,"
 echo "seed 1) with \`--concentration-scale $scale\` (about 86 particles per sample) and"
-echo "\`--change-at $change_at\` (hours). Configuration (drift and alert options at their defaults):"
+echo "\`--change-at $change_at\` (hours). Configuration (drift and alert options at their defaults;"
+echo "RUN_DIR is a scratch directory per scenario):"
 echo
 echo '```yaml'
 config_text "RUN_DIR"
