@@ -3,7 +3,12 @@
 //   io        one Boost.Asio io_context thread: HTTP API, drop-directory watcher, socket
 //             server and the signal set (every handler there is short and never waits
 //             for the pipeline, except an API write, which waits for its own answer);
-//   hook      the alert hook (AlertHookRunner).
+//   hook      the alert hook (AlertHookRunner); alert forwarding has a thread of its own
+//             (daemon/reload.h, AlertOutputs).
+// systemd (Type=notify, base/systemd_notify.h): READY=1 once the state is loaded and the
+// watcher, the socket and the API run; WATCHDOG=1 at half of WatchdogSec, sent by a task
+// the pipeline thread runs, so a stuck pipeline stops the pings; STOPPING=1 at a stop.
+// SIGHUP re-reads the config file and applies what may change live (daemon/reload.h).
 // Shutdown order on SIGTERM/SIGINT: the watcher stops, the loop finishes the file or
 // batch in hand and writes closed bins and a last checkpoint (answering socket commits),
 // then the socket server and the API close their connections and the io thread ends.
@@ -13,11 +18,14 @@
 #include <boost/asio/io_context.hpp>
 #include <boost/asio/post.hpp>
 #include <boost/asio/signal_set.hpp>
+#include <boost/asio/steady_timer.hpp>
 #include <chrono>
 #include <csignal>
 #include <cstdio>
 #include <exception>
+#include <functional>
 #include <memory>
+#include <optional>
 #include <string>
 #include <thread>
 #include <vector>
@@ -27,10 +35,12 @@
 #include "base/clock.h"
 #include "base/command_line.h"
 #include "base/file_system.h"
+#include "base/systemd_notify.h"
 #include "config/config_loader.h"
 #include "daemon/alert_hook_runner.h"
 #include "daemon/commands.h"
 #include "daemon/logging.h"
+#include "daemon/reload.h"
 #include "ingest/drop_directory_watcher.h"
 #include "ingest/record_queue.h"
 #include "ingest/socket_server.h"
@@ -75,9 +85,16 @@ int Serve(const Config& config) {
     spdlog::error("cannot start: {}", service.status().message());
     return kExitFailed;
   }
-  auto hooks = AlertHookRunner::Create(config.alerts, clock);
-  if (!hooks.ok()) {
-    spdlog::error("alerts.hook_command: {}", hooks.status().message());
+  auto notifier = SystemdNotifier::FromEnvironment();
+  if (!notifier.ok()) {
+    spdlog::error("systemd notification: {}", notifier.status().message());
+    return kExitFailed;
+  }
+  const std::string listen = config.api.listen.starts_with(':') ? "127.0.0.1" + config.api.listen
+                                                                : config.api.listen;
+  auto outputs = AlertOutputs::Create(config.alerts, clock, "http://" + listen + "/");
+  if (!outputs.ok()) {
+    spdlog::error("alerts: {}", outputs.status().message());
     return kExitUsage;
   }
 
@@ -94,8 +111,8 @@ int Serve(const Config& config) {
   inputs.mark_handled = [&watcher](const std::string& name) { watcher->MarkHandled(name); };
   inputs.forget = [&watcher](const std::string& name) { watcher->Forget(name); };
   inputs.records = socket_wanted ? &queue : nullptr;
-  inputs.alert_files = [&hooks](std::vector<std::filesystem::path> files) {
-    (*hooks)->Enqueue(std::move(files));
+  inputs.alert_files = [&outputs](std::vector<std::filesystem::path> files) {
+    (*outputs)->Deliver(std::move(files));
   };
   ServiceLoop loop(**service, std::move(inputs));
 
@@ -109,6 +126,12 @@ int Serve(const Config& config) {
 
   ServiceBackend backend((*service)->shared_board(), loop, clock, [&watcher, &queue, &loop] {
     return ServiceBackend::Backlog{watcher->tracked_files() + loop.files_in_hand(), queue.size()};
+  });
+  Reloader reloader(config.source_path, config, loop, **outputs);
+  backend.SetMetricsExtras([&watcher, &outputs, &reloader](ServiceMetricsExtras& extras) {
+    extras.inotify_overflows = watcher->inotify_overflows();
+    extras.forwarding = (*outputs)->forwarding_stats();
+    reloader.AddCounts(extras);
   });
   auto http = HttpServer::Create(io, config.api, backend, token);
   if (!http.ok()) {
@@ -129,9 +152,37 @@ int Serve(const Config& config) {
   signals.async_wait([&](const boost::system::error_code& error, int signal_number) {
     if (error) return;
     spdlog::info("signal {}: stopping; no new files, finishing the work in hand", signal_number);
+    (void)(*notifier)->Stopping("stopping: finishing the work in hand, then a last checkpoint");
     watcher->Stop();
     loop.RequestStop();
   });
+
+  boost::asio::signal_set hangups(io, SIGHUP);
+  std::function<void()> await_hangup = [&] {
+    hangups.async_wait([&](const boost::system::error_code& error, int) {
+      if (error) return;
+      reloader.Reload();
+      await_hangup();
+    });
+  };
+  await_hangup();
+
+  // The ping is a task of the pipeline thread: it is sent only while that thread turns.
+  boost::asio::steady_timer watchdog(io);
+  std::function<void()> arm_watchdog = [&] {
+    std::optional<double> interval = (*notifier)->watchdog_interval_seconds();
+    if (!interval) return;
+    watchdog.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
+        std::chrono::duration<double>(*interval)));
+    watchdog.async_wait([&](const boost::system::error_code& error) {
+      if (error) return;
+      loop.Post([&notifier](StationService&) {
+        if (Status sent = (*notifier)->Watchdog(); !sent.ok()) spdlog::warn("{}", sent.message());
+      });
+      arm_watchdog();
+    });
+  };
+  arm_watchdog();
 
   (*http)->Start();
   if (Status started = watcher->Start(); !started.ok()) {
@@ -145,6 +196,12 @@ int Serve(const Config& config) {
       SESTON_VERSION, config.station, config.input.drop_dir, (*http)->port(), config.api.listen,
       SocketText(config.input),
       socket && socket->port() != 0 ? " port " + std::to_string(socket->port()) : "");
+
+  if (Status sent = (*notifier)->Ready("running: drop directory " + config.input.drop_dir +
+                                        ", API port " + std::to_string((*http)->port()));
+      !sent.ok()) {
+    spdlog::warn("{}", sent.message());
+  }
 
   std::thread io_thread([&io] {
     try {
@@ -167,6 +224,8 @@ int Serve(const Config& config) {
   boost::asio::post(io, [&] {
     boost::system::error_code ignored;
     signals.cancel(ignored);
+    hangups.cancel(ignored);
+    watchdog.cancel();
     watcher->Stop();
   });
   if (socket) socket->Stop();

@@ -210,14 +210,14 @@ AlertmanagerForwarder::Stats AlertmanagerForwarder::stats() const {
 Result<std::unique_ptr<AlertmanagerClient>> AlertmanagerClient::Create(AlertmanagerOptions options,
                                                                        std::string generator_url,
                                                                        AlertPoster poster,
-                                                                       Clock& clock) {
+                                                                       const Clock& clock) {
   SESTON_ASSIGN_OR_RETURN(AlertmanagerEndpoint endpoint, ParseAlertmanagerUrl(options.url));
   return std::unique_ptr<AlertmanagerClient>(new AlertmanagerClient(
       std::move(options), std::move(endpoint), std::move(generator_url), std::move(poster), clock));
 }
 
 AlertmanagerClient::AlertmanagerClient(AlertmanagerOptions options, AlertmanagerEndpoint endpoint,
-                                       std::string generator_url, AlertPoster poster, Clock& clock)
+                                       std::string generator_url, AlertPoster poster, const Clock& clock)
     : poster_(std::move(poster)),
       clock_(clock),
       endpoint_(std::move(endpoint)),

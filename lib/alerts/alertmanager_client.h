@@ -140,7 +140,7 @@ class AlertmanagerClient {
   // Fails for a bad url. Starts the thread.
   static Result<std::unique_ptr<AlertmanagerClient>> Create(AlertmanagerOptions options,
                                                             std::string generator_url,
-                                                            AlertPoster poster, Clock& clock);
+                                                            AlertPoster poster, const Clock& clock);
   // Stops the thread; an in-flight post is waited for (it is bounded by the timeout).
   ~AlertmanagerClient();
   AlertmanagerClient(const AlertmanagerClient&) = delete;
@@ -154,11 +154,11 @@ class AlertmanagerClient {
 
  private:
   AlertmanagerClient(AlertmanagerOptions options, AlertmanagerEndpoint endpoint,
-                     std::string generator_url, AlertPoster poster, Clock& clock);
+                     std::string generator_url, AlertPoster poster, const Clock& clock);
   void Run();
 
   AlertPoster poster_;
-  Clock& clock_;
+  const Clock& clock_;
   mutable std::mutex mutex_;
   std::condition_variable wake_;
   AlertmanagerEndpoint endpoint_;    // guarded by mutex_

@@ -16,26 +16,6 @@ std::optional<double> FiniteOrNone(double value) {
   return std::isfinite(value) ? std::optional<double>(value) : std::nullopt;
 }
 
-// One Prometheus text-format sample with its HELP and TYPE lines.
-void AddMetric(std::string& text, const char* name, const char* type, const char* help,
-               double value) {
-  text += "# HELP ";
-  text += name;
-  text += ' ';
-  text += help;
-  text += "\n# TYPE ";
-  text += name;
-  text += ' ';
-  text += type;
-  text += '\n';
-  text += name;
-  text += ' ';
-  char number[32];
-  std::snprintf(number, sizeof number, "%.17g", value);
-  text += number;
-  text += '\n';
-}
-
 }  // namespace
 
 ServiceBackend::ServiceBackend(std::shared_ptr<const SnapshotBoard> board, ServiceLoop& loop,
@@ -173,37 +153,28 @@ Status ServiceBackend::AcceptBaseline() {
 }
 
 std::string ServiceBackend::Metrics() {
-  std::string text;
   auto snapshot = board_->Latest();
   const Backlog backlog = backlog_ ? backlog_() : Backlog{};
-  AddMetric(text, "seston_backlog_files", "gauge", "Drop files waiting to be read.",
-            static_cast<double>(backlog.files));
-  AddMetric(text, "seston_backlog_records", "gauge", "Socket records waiting for the pipeline.",
-            static_cast<double>(backlog.records));
-  if (!snapshot) return text;
-  const ServiceSnapshot& s = *snapshot;
-  AddMetric(text, "seston_particles_accepted_total", "counter",
-            "Particles accepted (classified or unclassified).",
-            static_cast<double>(s.counters.accepted));
-  AddMetric(text, "seston_particles_rejected_total", "counter", "Rows and records rejected.",
-            static_cast<double>(s.counters.rejected));
-  AddMetric(text, "seston_particles_unclassified_total", "counter",
-            "Particles farther than every cluster's novelty threshold.",
-            static_cast<double>(s.counters.unclassified));
-  AddMetric(text, "seston_files_done_total", "counter", "Drop files counted and moved to done.",
-            static_cast<double>(s.files_done));
-  AddMetric(text, "seston_files_quarantined_total", "counter", "Drop files moved to quarantine.",
-            static_cast<double>(s.files_quarantined));
-  AddMetric(text, "seston_checkpoints_written_total", "counter",
-            "Checkpoints written by this process.", static_cast<double>(s.checkpoints_written));
-  AddMetric(text, "seston_checkpoint_failures_total", "counter",
-            "Checkpoint writes that failed in this process.",
-            static_cast<double>(s.checkpoint_failures));
-  AddMetric(text, "seston_clusters", "gauge", "Active clusters in the model.",
-            static_cast<double>(s.k));
-  AddMetric(text, "seston_degraded", "gauge",
-            "1 while writing fails or after a checkpoint fallback.", s.degraded ? 1.0 : 0.0);
-  return text;
+  ServiceMetricsExtras extras;
+  extras.wall_seconds = clock_.WallSeconds();
+  extras.backlog_files = backlog.files;
+  extras.backlog_records = backlog.records;
+  extras.resident_bytes = ProcessResidentBytes();
+  if (metrics_extras_) metrics_extras_(extras);
+  static const std::vector<DetectorReading> kNoReadings;
+  return ServiceMetricsText(snapshot.get(), snapshot ? snapshot->detector_readings : kNoReadings,
+                            extras);
+}
+
+RecentParticlesView ServiceBackend::RecentParticles(std::size_t limit) {
+  auto snapshot = board_->Latest();
+  if (!snapshot) return {};
+  RecentParticlesView view;
+  view.columns = snapshot->recent_particles.columns;
+  const auto& all = snapshot->recent_particles.particles;
+  const std::size_t skip = all.size() > limit ? all.size() - limit : 0;
+  view.particles.assign(all.begin() + static_cast<std::ptrdiff_t>(skip), all.end());
+  return view;
 }
 
 }  // namespace seston

@@ -30,6 +30,7 @@
 #include "api/api_backend.h"
 #include "base/clock.h"
 #include "pipeline/service_loop.h"
+#include "pipeline/service_metrics.h"
 #include "pipeline/service_snapshot.h"
 
 namespace seston {
@@ -55,7 +56,14 @@ class ServiceBackend final : public ApiBackend {
   Status SetLabel(std::uint32_t id, std::string label) override;
   nlohmann::json Alerts() override;
   Status AcceptBaseline() override;
-  std::string Metrics() override;
+  std::string Metrics() override;  // pipeline/service_metrics.h
+  RecentParticlesView RecentParticles(std::size_t limit) override;
+
+  // Adds what the snapshot does not hold to the metrics (inotify overflows, forwarding,
+  // reloads); called on API threads, must be thread-safe. Set before serving.
+  void SetMetricsExtras(std::function<void(ServiceMetricsExtras&)> fill) {
+    metrics_extras_ = std::move(fill);
+  }
 
  private:
   Result<std::shared_ptr<const ServiceSnapshot>> Latest() const;
@@ -67,6 +75,7 @@ class ServiceBackend final : public ApiBackend {
   const Clock& clock_;
   std::function<Backlog()> backlog_;
   double write_timeout_seconds_;
+  std::function<void(ServiceMetricsExtras&)> metrics_extras_;
 };
 
 }  // namespace seston

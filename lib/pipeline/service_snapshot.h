@@ -27,6 +27,7 @@
 
 #include "api/api_views.h"
 #include "counts/count_book_snapshot.h"
+#include "drift/detector_reading.h"
 #include "pipeline/pipeline.h"
 
 namespace seston {
@@ -64,6 +65,8 @@ struct ServiceSnapshot {
                                       // where nobody named one
   nlohmann::json alerts = {{"active", nlohmann::json::array()},
                            {"recent", nlohmann::json::array()}};
+  std::vector<DetectorReading> detector_readings;  // latest of each kind, for /metrics
+  RecentParticlesView recent_particles;            // newest classified, for the status page
 };
 
 class SnapshotBoard {

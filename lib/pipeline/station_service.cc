@@ -563,6 +563,17 @@ Status StationService::SetLabel(std::uint32_t id, std::string label) {
   return Status::Ok();
 }
 
+Status StationService::ApplyLiveConfig(const Config& config) {
+  SESTON_RETURN_IF_ERROR(pipeline_->ApplyLiveConfig(config));
+  const Config& applied = pipeline_->config();
+  config_.input = applied.input;
+  config_.drift = applied.drift;
+  config_.alerts = applied.alerts;
+  config_.logging = applied.logging;
+  Publish();
+  return Status::Ok();
+}
+
 Status StationService::AcceptBaseline() {
   if (!accepting_work()) {
     return Status::Unavailable("state cannot be written now (" + problem_ + "); try again later");
@@ -703,6 +714,10 @@ void StationService::Publish() {
   nlohmann::json recent = nlohmann::json::array();
   for (const AlertEvent& event : pipeline.drift().recent_alerts()) recent.push_back(ToJson(event));
   snapshot->alerts = {{"active", std::move(active)}, {"recent", std::move(recent)}};
+  for (const auto& [kind, reading] : pipeline.drift().latest_readings()) {
+    snapshot->detector_readings.push_back(reading);
+  }
+  snapshot->recent_particles = pipeline.recent_particles().Latest(RecentParticles::kDefaultCapacity);
   board_->Publish(std::move(snapshot));
   last_publish_monotonic_ = clock_.MonotonicSeconds();
 }

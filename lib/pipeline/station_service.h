@@ -137,6 +137,9 @@ class StationService {
   // writing fails (nothing applied), or when applied but the checkpoint failed.
   Status SetLabel(std::uint32_t id, std::string label);
   Status AcceptBaseline();
+  // The live part of a SIGHUP reload (Pipeline::ApplyLiveConfig, config/config_diff.h),
+  // then a new snapshot. On error nothing changes.
+  Status ApplyLiveConfig(const Config& config);
 
   // Periodic duty, at least every 100 ms: checkpoint when due (state.checkpoint_seconds,
   // or socket commits waiting), retry failed writes with back-off.
