@@ -14,6 +14,8 @@ packages=(
 if [[ "${1:-}" == "--test" ]]; then
   # Outside references for the tests (scikit-learn, SciPy) and the fuzzing toolchain.
   packages+=(python3-numpy python3-scipy python3-sklearn python3-pandas clang libclang-rt-14-dev)
+  # Real monitoring tools and a browser for the operations tests (tests/ops).
+  packages+=(prometheus prometheus-alertmanager chromium)
 fi
 
 missing=()
