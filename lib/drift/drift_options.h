@@ -23,7 +23,7 @@ struct CentreDriftOptions {
   double same_direction_cosine = 0.7;
 };
 
-struct FitOptions {      // Page–Hinkley on distance to the assigned centre
+struct FitOptions {  // Page–Hinkley on distance to the assigned centre
   // Tolerated change in mean distance, z units. Default 0.02 (about 3 % of the typical
   // mean distance of 0.6 z): at 0.005 the test drifted past lambda twice in 30 simulated
   // days of steady water (tests/pipeline/scenario_test.cc) as the centres follow the
@@ -52,9 +52,9 @@ struct NoveltyRateOptions {
 struct FlowOptions {
   std::size_t baseline_samples = 12;  // samples whose median volume becomes the baseline
   std::size_t window_samples = 5;     // recent samples whose median is compared with it
-  double warn_ratio = 0.85;   // recent / baseline volume at or below this (or at or above
-                              // its inverse) warns; 0 < alarm_ratio <= warn_ratio < 1
-  double alarm_ratio = 0.7;   // ... and at or below this (or its inverse) alarms
+  double warn_ratio = 0.85;           // recent / baseline volume at or below this (or at or above
+                                      // its inverse) warns; 0 < alarm_ratio <= warn_ratio < 1
+  double alarm_ratio = 0.7;           // ... and at or below this (or its inverse) alarms
 };
 
 struct DriftOptions {

@@ -15,8 +15,8 @@ std::optional<double> Median(std::vector<double> values) {
                    values.end());
   const double upper = values[middle];
   if (values.size() % 2 == 1) return upper;
-  const double lower = *std::max_element(values.begin(),
-                                         values.begin() + static_cast<std::ptrdiff_t>(middle));
+  const double lower =
+      *std::max_element(values.begin(), values.begin() + static_cast<std::ptrdiff_t>(middle));
   return (lower + upper) / 2;
 }
 
@@ -31,8 +31,7 @@ Result<FlowDetector> FlowDetector::Create(FlowOptions options) {
         options.warn_ratio < 1)) {
     return Status::InvalidArgument(
         "drift.flow.alarm_ratio and warn_ratio are " + std::to_string(options.alarm_ratio) +
-        " and " + std::to_string(options.warn_ratio) +
-        "; need 0 < alarm_ratio <= warn_ratio < 1");
+        " and " + std::to_string(options.warn_ratio) + "; need 0 < alarm_ratio <= warn_ratio < 1");
   }
   return FlowDetector(options);
 }

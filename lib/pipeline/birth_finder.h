@@ -22,12 +22,11 @@
 // Units: z (standardised feature units). Thread safety: a pure function.
 #pragma once
 
+#include <Eigen/Dense>
 #include <cstddef>
 #include <cstdint>
 #include <optional>
 #include <vector>
-
-#include <Eigen/Dense>
 
 #include "model/mini_batch_kmeans.h"
 
@@ -42,13 +41,13 @@ inline constexpr double kBirthSpreadFactor = 1.5;
 inline constexpr int kBirthLookbackWindows = 4;
 
 struct BirthCandidate {
-  Eigen::VectorXd centre;                // z
-  double spread = 0;                     // RMS distance of the part's points, z
-  double novelty_threshold = 0;          // z
-  std::vector<std::uint64_t> members;    // novelty-buffer sequence numbers
-  double first_seconds = 0;              // event time of the earliest member
-  std::uint32_t nearest_id = 0;          // nearest active cluster
-  double nearest_distance = 0;           // from the centre to it, z
+  Eigen::VectorXd centre;              // z
+  double spread = 0;                   // RMS distance of the part's points, z
+  double novelty_threshold = 0;        // z
+  std::vector<std::uint64_t> members;  // novelty-buffer sequence numbers
+  double first_seconds = 0;            // event time of the earliest member
+  std::uint32_t nearest_id = 0;        // nearest active cluster
+  double nearest_distance = 0;         // from the centre to it, z
 };
 
 std::optional<BirthCandidate> FindBirth(const MiniBatchKMeans& model, std::size_t min_particles,

@@ -18,10 +18,10 @@ std::vector<ClusterRef> ClusterRefs(const MiniBatchKMeans& model, bool baseline)
     // A baseline needs a spread to measure displacement in; a cluster with a single
     // warm-up member has none and is left out of the centre baseline.
     if (baseline && !(cluster.spread > 0 && std::isfinite(cluster.spread))) continue;
-    refs.push_back({cluster.id,
-                    std::vector<double>(cluster.centre.data(),
-                                        cluster.centre.data() + cluster.centre.size()),
-                    cluster.spread});
+    refs.push_back(
+        {cluster.id,
+         std::vector<double>(cluster.centre.data(), cluster.centre.data() + cluster.centre.size()),
+         cluster.spread});
   }
   return refs;
 }
@@ -74,9 +74,8 @@ Result<DriftMonitor> DriftMonitor::Create(const DriftOptions& drift, const Alert
   SESTON_ASSIGN_OR_RETURN(auto novelty, NoveltyRateDetector::Create(drift.novelty));
   SESTON_ASSIGN_OR_RETURN(auto flow, FlowDetector::Create(drift.flow));
   SESTON_ASSIGN_OR_RETURN(auto policy, AlertPolicy::Create(alerts, station));
-  return DriftMonitor(drift, alerts, std::move(station), std::move(composition),
-                      std::move(centre), std::move(fit), std::move(novelty), std::move(flow),
-                      std::move(policy));
+  return DriftMonitor(drift, alerts, std::move(station), std::move(composition), std::move(centre),
+                      std::move(fit), std::move(novelty), std::move(flow), std::move(policy));
 }
 
 Status DriftMonitor::SetBaseline(const MiniBatchKMeans& model,
@@ -117,8 +116,8 @@ Status DriftMonitor::AcceptCurrentAsBaseline(const MiniBatchKMeans& model, doubl
   for (const auto& [id, count] : recent_counts_) {
     counts[id] = static_cast<std::uint64_t>(std::llround(count));
   }
-  // The unclassified rate is taken from its own (possibly longer) window, so the count
-  // given for id 0 reproduces that rate on the composition window's total.
+  // The unclassified rate comes from its own window (the composition window holds
+  // classified ids only) and replaces the rate SetBaseline derives from `counts`.
   const double rate = static_cast<double>(recent_unclassified_count_) /
                       static_cast<double>(std::max<std::size_t>(1, recent_unclassified_.size()));
   FlowDetector flow = flow_;
@@ -158,12 +157,9 @@ void DriftMonitor::PushRecent(std::uint32_t id) {
   }
 }
 
-std::vector<AlertEvent> DriftMonitor::Observe(MiniBatchKMeans& model,
-                                              std::span<const std::uint32_t> ids,
-                                              std::span<const double> distances,
-                                              std::span<const double> seconds,
-                                              const LabelOf& label_of,
-                                              const CentreText& centre_text) {
+std::vector<AlertEvent> DriftMonitor::Observe(
+    MiniBatchKMeans& model, std::span<const std::uint32_t> ids, std::span<const double> distances,
+    std::span<const double> seconds, const LabelOf& label_of, const CentreText& centre_text) {
   std::vector<AlertEvent> events;
   const std::size_t n = std::min({ids.size(), distances.size(), seconds.size()});
   for (std::size_t i = 0; i < n; ++i) {
@@ -228,8 +224,8 @@ void DriftMonitor::Births(MiniBatchKMeans& model, double seconds, const LabelOf&
       FindBirth(model, drift_.novelty.birth_min_particles, evaluation_seconds_.front());
   if (!birth) return;
   const auto size = static_cast<double>(birth->members.size());
-  const std::uint32_t id = model.AddCluster(birth->centre, size, birth->novelty_threshold,
-                                            birth->spread, seconds);
+  const std::uint32_t id =
+      model.AddCluster(birth->centre, size, birth->novelty_threshold, birth->spread, seconds);
   model.RemoveNoveltyPoints(birth->members);
   AlertEvent event = OneOffEvent("new_cluster", seconds);
   event.since_seconds = birth->first_seconds;
@@ -245,18 +241,19 @@ void DriftMonitor::Births(MiniBatchKMeans& model, double seconds, const LabelOf&
     }
     centre += ") z";
   }
-  event.message =
-      "A new group appeared: " + std::to_string(birth->members.size()) +
-      " particles that fit no known group (unclassified since " +
-      FormatIso8601(birth->first_seconds) + ") form a tight group, now cluster " +
-      std::to_string(id) + ". Its centre is " + centre + "; its spread is " +
-      FormatFixed(birth->spread, 2) + " z, and it lies " + FormatFixed(birth->nearest_distance, 2) +
-      " z from the nearest known group, cluster " + std::to_string(birth->nearest_id) +
-      ". From now on its particles are counted as cluster " + std::to_string(id) + ".";
+  event.message = "A new group appeared: " + std::to_string(birth->members.size()) +
+                  " particles that fit no known group (unclassified since " +
+                  FormatIso8601(birth->first_seconds) + ") form a tight group, now cluster " +
+                  std::to_string(id) + ". Its centre is " + centre + "; its spread is " +
+                  FormatFixed(birth->spread, 2) + " z, and it lies " +
+                  FormatFixed(birth->nearest_distance, 2) +
+                  " z from the nearest known group, cluster " + std::to_string(birth->nearest_id) +
+                  ". From now on its particles are counted as cluster " + std::to_string(id) + ".";
   event.what_to_check =
       "Look at images of cluster " + std::to_string(id) +
       " and give it a label: a new species or life stage, debris, bubbles, or an instrument "
-      "artefact. " + std::string(kScreeningAidCaution);
+      "artefact. " +
+      std::string(kScreeningAidCaution);
   Emit(std::move(event), events);
 }
 
@@ -349,9 +346,9 @@ Result<DriftMonitor> DriftMonitor::FromJson(const nlohmann::json& state, const D
   SESTON_ASSIGN_OR_RETURN(DriftMonitor monitor, Create(drift, alerts, station));
   try {
     if (!state.at("composition").at("baseline").empty()) {
-      SESTON_ASSIGN_OR_RETURN(monitor.composition_,
-                              CompositionDetector::FromJson(state.at("composition"),
-                                                            drift.composition));
+      SESTON_ASSIGN_OR_RETURN(
+          monitor.composition_,
+          CompositionDetector::FromJson(state.at("composition"), drift.composition));
     }
     SESTON_ASSIGN_OR_RETURN(monitor.centre_,
                             CentreDriftDetector::FromJson(state.at("centre"), drift.centre));
@@ -381,8 +378,7 @@ Result<DriftMonitor> DriftMonitor::FromJson(const nlohmann::json& state, const D
     for (const nlohmann::json& entry : state.at("active")) {
       Result<AlertEvent> event = AlertEventFromJson(entry);
       if (!event.ok()) return event.status().WithContext("drift monitor state");
-      const AlertKey key{event->kind,
-                         event->clusters.empty() ? 0u : event->clusters.front().first};
+      const AlertKey key{event->kind, event->clusters.empty() ? 0u : event->clusters.front().first};
       monitor.active_[key] = std::move(event).value();
     }
     for (const nlohmann::json& entry : state.at("recent")) {

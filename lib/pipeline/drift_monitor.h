@@ -56,12 +56,11 @@
 #include <deque>
 #include <functional>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <span>
 #include <string>
 #include <utility>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "alerts/alert_event.h"
 #include "alerts/alert_options.h"
@@ -177,9 +176,9 @@ class DriftMonitor {
   FlowDetector flow_;
   AlertPolicy policy_;
 
-  std::deque<std::uint32_t> recent_ids_;  // classified ids (not 0), oldest first
+  std::deque<std::uint32_t> recent_ids_;           // classified ids (not 0), oldest first
   std::map<std::uint32_t, double> recent_counts_;  // counts of recent_ids_, no zeros
-  std::deque<bool> recent_unclassified_;  // per particle, oldest first
+  std::deque<bool> recent_unclassified_;           // per particle, oldest first
   std::uint64_t recent_unclassified_count_ = 0;
   std::uint64_t since_evaluation_ = 0;  // particles observed since the last evaluation
   // Event times of the latest evaluations, oldest first, enough of them to span the

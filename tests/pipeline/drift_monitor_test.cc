@@ -88,8 +88,8 @@ std::string Label(std::uint32_t id) { return "group " + std::to_string(id); }
 
 // Classifies and learns `points` one particle per second after `*clock`, then shows the
 // batch to the monitor; returns its events.
-std::vector<AlertEvent> Feed(MiniBatchKMeans& model, DriftMonitor& monitor,
-                             const RowMatrix& points, double* clock, int batch = 256) {
+std::vector<AlertEvent> Feed(MiniBatchKMeans& model, DriftMonitor& monitor, const RowMatrix& points,
+                             double* clock, int batch = 256) {
   std::vector<AlertEvent> events;
   for (Eigen::Index start = 0; start < points.rows(); start += batch) {
     const Eigen::Index m = std::min<Eigen::Index>(batch, points.rows() - start);
@@ -134,8 +134,8 @@ TEST(DriftMonitor, EvaluatesEveryDetectorOnceEveryHundredParticles) {
   Feed(model, monitor, stream.Points(1, {1, 1, 1}), &clock);
   std::set<std::string> kinds;
   for (const auto& entry : monitor.latest_readings()) kinds.insert(entry.first);
-  EXPECT_EQ(kinds, (std::set<std::string>{"composition", "centre_drift", "instrument_drift",
-                                          "fit", "novelty"}));
+  EXPECT_EQ(kinds, (std::set<std::string>{"composition", "centre_drift", "instrument_drift", "fit",
+                                          "novelty"}));
 }
 
 TEST(DriftMonitor, CadenceDoesNotDependOnHowTheStreamIsCut) {
@@ -275,9 +275,8 @@ TEST(DriftMonitor, JsonRoundTripContinuesIdentically) {
   DriftMonitor monitor = MakeMonitor(model);
   double clock = kStart;
   Feed(model, monitor, stream.Points(2550, {8, 1, 1}), &clock);
-  auto restored =
-      DriftMonitor::FromJson(monitor.ToJson(), SmallDrift(), TestAlerts(),
-                             "Skerry Sound mooring B (test)");
+  auto restored = DriftMonitor::FromJson(monitor.ToJson(), SmallDrift(), TestAlerts(),
+                                         "Skerry Sound mooring B (test)");
   ASSERT_TRUE(restored.ok()) << restored.status().message();
   EXPECT_EQ(restored->ToJson(), monitor.ToJson());
 

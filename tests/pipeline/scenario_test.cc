@@ -59,7 +59,7 @@ std::string Replaced(std::string text, const std::string& from, const std::strin
 }
 
 struct ScenarioRun {
-  std::vector<AlertEvent> raised;  // every "raised" event, in order
+  std::vector<AlertEvent> raised;                 // every "raised" event, in order
   std::map<std::string, DetectorReading> latest;  // the detectors' last readings
   double change_seconds = 0;
   double end_seconds = 0;
@@ -142,8 +142,8 @@ void Report(const char* name, const ScenarioRun& run, double delay) {
   }
   for (const auto& [kind, reading] : run.latest) {
     std::printf("  last %-16s %-5s %s = %.4g (alarm %.4g)\n", kind.c_str(),
-                std::string(DriftLevelName(reading.level)).c_str(),
-                reading.statistic_name.c_str(), reading.statistic, reading.threshold);
+                std::string(DriftLevelName(reading.level)).c_str(), reading.statistic_name.c_str(),
+                reading.statistic, reading.threshold);
   }
 }
 
