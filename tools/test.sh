@@ -16,7 +16,7 @@ asan_build="$root/build/asan"
 fuzz_build="$root/build/fuzz"
 jobs="${SESTON_JOBS:-$(nproc)}"
 fuzz_seconds="${SESTON_FUZZ_SECONDS:-45}"
-fuzz_targets=(csv_reader ndjson_parser config_loader)
+fuzz_targets=(csv_reader ndjson_parser config_loader router)
 
 "$root/tools/install-deps.sh" --test
 
