@@ -50,7 +50,11 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   request.body = std::string(rest);
 
   seston::testing::FakeBackend backend;
-  backend.clusters.push_back({.id = 3, .label = "diatom chains", .count = 120});
+  seston::ClusterView cluster;
+  cluster.id = 3;
+  cluster.label = "diatom chains";
+  cluster.count = 120;
+  backend.clusters.push_back(cluster);
   const seston::HttpResponse response = seston::Route(request, backend, std::string(kToken));
 
   FUZZ_CHECK(response.status >= 200 && response.status <= 599);
