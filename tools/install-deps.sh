@@ -12,8 +12,10 @@ packages=(
   curl python3
 )
 if [[ "${1:-}" == "--test" ]]; then
-  # Outside references for the tests (scikit-learn, SciPy) and the fuzzing toolchain.
-  packages+=(python3-numpy python3-scipy python3-sklearn python3-pandas clang libclang-rt-14-dev)
+  # Outside references for the tests (scikit-learn, SciPy), the fuzzing toolchain, and
+  # Ninja and lld, which keep the two test builds quick on two cores.
+  packages+=(python3-numpy python3-scipy python3-sklearn python3-pandas clang libclang-rt-14-dev
+    ninja-build lld)
   # Real monitoring tools and a browser for the operations tests (tests/ops).
   packages+=(prometheus prometheus-alertmanager chromium)
 fi

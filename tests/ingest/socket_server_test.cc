@@ -14,6 +14,7 @@
 #include <cstring>
 #include <functional>
 #include <map>
+#include <memory>
 #include <mutex>
 #include <nlohmann/json.hpp>
 #include <set>
@@ -294,11 +295,12 @@ TEST_F(SocketServerTest, RepliesArriveInOrderAndStopFlushesThemBeforeClosing) {
 TEST_F(SocketServerTest, ClientThatNeverReadsRepliesIsClosedAtTheBound) {
   constexpr std::size_t kBound = 64 * 1024;
   options_.socket.max_pending_reply_bytes = kBound;
-  std::atomic<std::size_t> reply_bytes{0};
-  StartServer(1024, [&reply_bytes](const QueuedLine& line) {
+  // Shared with the consumer thread, which TearDown joins only after this body has returned.
+  auto reply_bytes = std::make_shared<std::atomic<std::size_t>>(0);
+  StartServer(1024, [reply_bytes](const QueuedLine& line) {
     if (auto channel = line.reply_to.lock()) {
       Reply reply = Reply::Rejected(line.line_number, "bad_record", std::string(900, 'd'));
-      reply_bytes += reply.text.size() + 1;
+      *reply_bytes += reply.text.size() + 1;
       channel->Send(std::move(reply));
     }
   });
@@ -309,10 +311,10 @@ TEST_F(SocketServerTest, ClientThatNeverReadsRepliesIsClosedAtTheBound) {
     if (server_->counters().slow_reader_closes > 0) break;
   }
   ASSERT_TRUE(WaitUntil([this] { return server_->counters().slow_reader_closes == 1; }, 10000ms))
-      << "replies sent: " << reply_bytes.load() << " bytes";
+      << "replies sent: " << reply_bytes->load() << " bytes";
   SocketServer::Counters counters = server_->counters();
   EXPECT_LE(counters.peak_pending_reply_bytes, kBound);
-  EXPECT_GT(reply_bytes.load(), kBound) << "the pipeline answered more than the bound";
+  EXPECT_GT(reply_bytes->load(), kBound) << "the pipeline answered more than the bound";
   EXPECT_TRUE(WaitUntil([this] { return server_->counters().connections_open == 0; }, 3000ms));
 }
 
