@@ -529,11 +529,7 @@ Status StationService::Checkpoint(const char* why) {
   last_checkpoint_monotonic_ = clock_.MonotonicSeconds();
   last_checkpoint_wall_ = clock_.WallSeconds();
   std::erase_if(state_.committed_files, [](const CommittedFile& file) { return file.moved; });
-  for (const SocketStep& step : journal_) {
-    if (step.kind != SocketStep::Kind::kRecords) {
-      Send(step.reply_to, Reply::Committed(step.sample, step.particles));
-    }
-  }
+  std::vector<SocketStep> answered = std::move(journal_);
   journal_.clear();
   journal_particles_ = 0;
   first_unacked_close_.reset();
@@ -545,6 +541,13 @@ Status StationService::Checkpoint(const char* why) {
   if (write_failure_) WritesRecovered();
   MoveCommittedFiles();
   Publish();
+  // Answered only once published, so a client that queries right after its commit
+  // answer sees its sample in the counts.
+  for (const SocketStep& step : answered) {
+    if (step.kind != SocketStep::Kind::kRecords) {
+      Send(step.reply_to, Reply::Committed(step.sample, step.particles));
+    }
+  }
   return Status::Ok();
 }
 
