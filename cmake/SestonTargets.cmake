@@ -30,5 +30,8 @@ function(seston_tests name)
                         GTest::gtest_main)
   target_compile_definitions(${name}_tests PRIVATE
                              SESTON_TEST_DATA_DIR="${PROJECT_SOURCE_DIR}/tests/data")
+  if(SESTON_UNOPTIMISED_TESTS)
+    target_compile_options(${name}_tests PRIVATE -O0)
+  endif()
   gtest_discover_tests(${name}_tests DISCOVERY_TIMEOUT 60 PROPERTIES LABELS unit)
 endfunction()

@@ -49,12 +49,15 @@ ctest --test-dir "$build" --output-on-failure -j "$jobs" --timeout 900
 
 if [[ "${SESTON_SKIP_SANITIZE:-0}" != 1 ]]; then
   # One clang build serves both the sanitised unit tests and the fuzzers: with
-  # SESTON_BUILD_FUZZERS every library is compiled with ASan, UBSan and libFuzzer's
-  # coverage hooks. -O1 keeps it quick; only the unit tests' executables and the fuzz
-  # targets are built (the end-to-end and crash tests drove the release binaries above).
+  # SESTON_BUILD_FUZZERS every library is compiled with ASan and UBSan, the fuzzed ones
+  # also with libFuzzer's coverage hooks. The libraries at -O1 (the tests' k-means runs
+  # stay quick), the tests' own sources at -O0, line tables only for the stack traces:
+  # together they halve the build. Only the unit tests' executables and the fuzz targets
+  # are built (the end-to-end and crash tests drove the release binaries above).
   phase "sanitised: configure and build ($sanitize_build, clang)"
   cmake -S "$root" -B "$sanitize_build" "${generator[@]}" "${linker[@]}" \
-    -DCMAKE_CXX_COMPILER=clang++ -DCMAKE_BUILD_TYPE=Debug -DCMAKE_CXX_FLAGS_DEBUG="-O1 -g" \
+    -DCMAKE_CXX_COMPILER=clang++ -DCMAKE_BUILD_TYPE=Debug \
+    -DCMAKE_CXX_FLAGS_DEBUG="-O1 -gline-tables-only" -DSESTON_UNOPTIMISED_TESTS=ON \
     -DSESTON_BUILD_FUZZERS=ON >/dev/null
   mapfile -t unit_targets < <(ninja -C "$sanitize_build" -t targets all |
     sed -n 's/^\([a-z_]*_tests\): phony$/\1/p')

@@ -685,6 +685,12 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"min_baseline_rate", number(drift.novelty.min_baseline_rate, FromTo(0, 1))},
       {"birth_min_particles", size(drift.novelty.birth_min_particles, 1)},
   };
+  const Rules flow_rules = {
+      {"baseline_samples", size(drift.flow.baseline_samples, 1)},
+      {"window_samples", size(drift.flow.window_samples, 1)},
+      {"warn_ratio", number(drift.flow.warn_ratio, Between(0, 1))},
+      {"alarm_ratio", number(drift.flow.alarm_ratio, Between(0, 1))},
+  };
   const Rules drift_rules = {
       {"enabled", boolean(drift.enabled)},
       {"evaluate_every_particles", size(drift.evaluate_every_particles, 1)},
@@ -692,6 +698,7 @@ void Reader::Read(const YAML::Node& root, Config& config) {
       {"centre", Section(centre_rules)},
       {"fit", Section(fit_rules)},
       {"novelty", Section(novelty_rules)},
+      {"flow", Section(flow_rules)},
   };
   // Only the shape is checked here; the client (alerts/alertmanager_client.h) parses it.
   const auto alertmanager_url = [this](std::string& out) {
@@ -840,6 +847,13 @@ void Reader::CheckAcrossKeys(const Config& config) {
                                                  NumberText(drift.novelty.warn_ratio) +
                                                  ") must not exceed drift.novelty.alarm_ratio (" +
                                                  NumberText(drift.novelty.alarm_ratio) + ")");
+  }
+  if (drift.flow.alarm_ratio > drift.flow.warn_ratio) {
+    ProblemAtKey("drift.flow.alarm_ratio", "drift.flow.alarm_ratio (" +
+                                               NumberText(drift.flow.alarm_ratio) +
+                                               ") must not exceed drift.flow.warn_ratio (" +
+                                               NumberText(drift.flow.warn_ratio) +
+                                               "): the alarm is the larger change in volume");
   }
   if (drift.novelty.birth_min_particles > model.novelty_buffer) {
     ProblemAtKey(

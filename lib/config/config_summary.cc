@@ -92,7 +92,8 @@ std::string DescribeConfig(const Config& config) {
         << " bits over " << drift.composition.window_particles << " particles; centre alarm at "
         << NumberText(drift.centre.alarm_spreads) << " spreads; fit alarm at Page-Hinkley "
         << NumberText(drift.fit.lambda) << "; novelty alarm at "
-        << NumberText(drift.novelty.alarm_ratio) << "x the baseline rate\n";
+        << NumberText(drift.novelty.alarm_ratio) << "x the baseline rate; flow alarm at "
+        << NumberText(drift.flow.alarm_ratio * 100) << " % of the baseline sample volume\n";
   }
 
   const AlertOptions& alerts = config.alerts;
@@ -199,7 +200,12 @@ nlohmann::json ConfigToJson(const Config& config) {
           {"warn_ratio", drift.novelty.warn_ratio},
           {"alarm_ratio", drift.novelty.alarm_ratio},
           {"min_baseline_rate", drift.novelty.min_baseline_rate},
-          {"birth_min_particles", drift.novelty.birth_min_particles}}}}},
+          {"birth_min_particles", drift.novelty.birth_min_particles}}},
+        {"flow",
+         {{"baseline_samples", drift.flow.baseline_samples},
+          {"window_samples", drift.flow.window_samples},
+          {"warn_ratio", drift.flow.warn_ratio},
+          {"alarm_ratio", drift.flow.alarm_ratio}}}}},
       {"alerts",
        {{"dir", config.alerts.dir},
         {"raise_after", config.alerts.raise_after},

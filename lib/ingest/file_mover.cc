@@ -61,7 +61,12 @@ Result<std::filesystem::path> FileMover::FreeTarget(const std::filesystem::path&
                                                     const std::string& name, bool with_note) {
   for (int suffix = 0; suffix <= kMaxNameSuffix; ++suffix) {
     std::filesystem::path target = directory / name;
-    if (suffix > 0) target += "." + std::to_string(suffix);
+    if (suffix > 0) {
+      // Two appends, not "." + to_string(): g++ 12 at -O3 warns (-Wrestrict, a false
+      // positive) on the temporary.
+      target += ".";
+      target += std::to_string(suffix);
+    }
     if (fs_->Exists(target) || (with_note && fs_->Exists(WithNote(target)))) continue;
     return target;
   }

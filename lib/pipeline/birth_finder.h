@@ -39,6 +39,11 @@ inline constexpr double kBirthSpreadFactor = 1.5;
 // 100 particles, scattered around all of them) cannot form a group of 200, while a new
 // kind of particle makes one as soon as it is about 1 % of the stream.
 inline constexpr int kBirthLookbackWindows = 4;
+// DriftMonitor searches again only when the novelty buffer has gained
+// birth_min_particles / kBirthSearchStepDivisor new points since its last search, so a
+// new group is announced at most that many unclassified particles later than a search
+// at every evaluation would announce it (50 with the default 200).
+inline constexpr std::size_t kBirthSearchStepDivisor = 4;
 
 struct BirthCandidate {
   Eigen::VectorXd centre;              // z

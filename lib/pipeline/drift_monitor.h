@@ -32,7 +32,8 @@
 // the last kBirthLookbackWindows × drift.novelty.window_particles particles). A group found is
 // added to the model (AddCluster, with a new id that is never reused, weight = its
 // size, born at the evaluation's event time) and its points leave the novelty buffer.
-// At most one birth per evaluation.
+// At most one birth per evaluation, and a search only once the buffer has gained
+// birth_min_particles / kBirthSearchStepDivisor new points since the previous search.
 // Retirement: an active cluster whose decayed weight fell below kRetireWeightFloor
 // particles (it has received practically nothing for many half-lives) is retired
 // (RetireCluster); the last active cluster is never retired.
@@ -184,6 +185,8 @@ class DriftMonitor {
   // Event times of the latest evaluations, oldest first, enough of them to span the
   // birth look-back (kBirthLookbackWindows novelty windows of particles).
   std::deque<double> evaluation_seconds_;
+  // Newest novelty-buffer sequence number at the last birth search (0: none yet).
+  std::uint64_t birth_searched_through_ = 0;
 
   std::map<std::string, DetectorReading> latest_;
   std::uint64_t sequence_ = 0;

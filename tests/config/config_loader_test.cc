@@ -102,6 +102,7 @@ drift:
   fit: { delta: 0.01, lambda: 25, alpha: 0.99, min_particles: 50 }
   novelty: { window_particles: 3000, alpha: 0.05, warn_ratio: 1.5, alarm_ratio: 3,
              min_baseline_rate: 0.002, birth_min_particles: 100 }
+  flow: { baseline_samples: 8, window_samples: 3, warn_ratio: 0.9, alarm_ratio: 0.6 }
 alerts:
   dir: /data/alerts
   raise_after: 2
@@ -209,6 +210,10 @@ TEST(ConfigLoader, EveryKeyReachesItsField) {
   EXPECT_DOUBLE_EQ(c.drift.novelty.alarm_ratio, 3);
   EXPECT_DOUBLE_EQ(c.drift.novelty.min_baseline_rate, 0.002);
   EXPECT_EQ(c.drift.novelty.birth_min_particles, 100u);
+  EXPECT_EQ(c.drift.flow.baseline_samples, 8u);
+  EXPECT_EQ(c.drift.flow.window_samples, 3u);
+  EXPECT_DOUBLE_EQ(c.drift.flow.warn_ratio, 0.9);
+  EXPECT_DOUBLE_EQ(c.drift.flow.alarm_ratio, 0.6);
 
   EXPECT_EQ(c.alerts.dir, "/data/alerts");
   EXPECT_EQ(c.alerts.raise_after, 2);
@@ -534,6 +539,20 @@ TEST(ConfigLoader, ThresholdPairsMustBeOrdered) {
   EXPECT_NE(OnlyProblemAbout(problems, "drift.novelty.birth_min_particles")
                 .message.find("must not exceed model.novelty_buffer (4096)"),
             std::string::npos);
+}
+
+TEST(ConfigLoader, FlowRatiosAreFractionsWithTheAlarmBelowTheWarning) {
+  const auto crossed = Check(std::string(kOneFeature) +
+                             "drift:\n"
+                             "  flow: { warn_ratio: 0.6, alarm_ratio: 0.8 }\n");
+  EXPECT_EQ(OnlyProblemAbout(crossed, "drift.flow.alarm_ratio").line, 3);
+  const auto out_of_range = Check(std::string(kOneFeature) +
+                                  "drift:\n"
+                                  "  flow:\n"
+                                  "    warn_ratio: 1.2\n"
+                                  "    window_samples: 0\n");
+  EXPECT_EQ(OnlyProblemAbout(out_of_range, "drift.flow.warn_ratio").line, 4);
+  EXPECT_EQ(OnlyProblemAbout(out_of_range, "drift.flow.window_samples").line, 5);
 }
 
 TEST(ConfigLoader, DirectoriesOfTheDropTreeMustDiffer) {
