@@ -9,6 +9,8 @@
 #include <string>
 #include <vector>
 
+#include "pipeline/birth_finder.h"
+
 namespace seston {
 namespace {
 
@@ -244,6 +246,50 @@ TEST(DriftMonitor, ATightFarGroupIsBornWithANewIdThatIsNeverReused) {
                              [](const auto& e) { return e.kind == "new_cluster"; });
   ASSERT_NE(second, again.end());
   EXPECT_EQ(second->clusters.front().first, 5u);
+}
+
+// The birth search (a k-means refit of the buffer) runs again only when the buffer has
+// gained birth_min_particles / kBirthSearchStepDivisor (here 100 / 4 = 25) new points,
+// and then at the first evaluation after that.
+TEST(DriftMonitor, BirthSearchWaitsForAQuarterOfABirthInNewPoints) {
+  Stream stream(8);
+  MiniBatchKMeans model = MakeModel(stream);
+  DriftMonitor monitor = MakeMonitor(model);
+  double clock = kStart;
+  const std::uint64_t step = 100 / kBirthSearchStepDivisor;
+  std::vector<std::uint64_t> searches;  // newest buffer sequence at each search
+  std::uint64_t newest_before = 0;
+  int waits = 0;
+  std::mt19937_64 engine(81);
+  std::uniform_real_distribution<double> anywhere(-20, 30);
+  for (int evaluation = 0; evaluation < 200; ++evaluation) {
+    // One evaluation per call (evaluate_every_particles = 100): 90 particles of the known
+    // groups and 10 strays scattered over a 50 z square, unclassified but never tight,
+    // so the look-back always holds enough of them for a search and none is born.
+    RowMatrix points(100, 2);
+    points.topRows(90) = stream.Points(90, {1, 1, 1});
+    for (Eigen::Index i = 90; i < 100; ++i) points.row(i) << anywhere(engine), anywhere(engine);
+    EXPECT_EQ(Count(Feed(model, monitor, points, &clock, 100), "new_cluster"), 0);
+    const auto searched = monitor.ToJson().at("birth_searched_through").get<std::uint64_t>();
+    const std::uint64_t newest =
+        model.novelty_buffer().empty() ? 0 : model.novelty_buffer().back().sequence;
+    if (searches.empty() ? searched != 0 : searched != searches.back()) {
+      EXPECT_EQ(searched, newest);  // a search covers the whole buffer as it is
+      if (!searches.empty()) {
+        EXPECT_GE(searched, searches.back() + step);
+        // ... and the previous evaluation had not yet gained a step's worth.
+        EXPECT_LT(newest_before, searches.back() + step);
+      }
+      searches.push_back(searched);
+    } else if (!searches.empty()) {
+      EXPECT_LT(newest, searches.back() + step) << "a due search was skipped";
+      ++waits;
+    }
+    newest_before = newest;
+  }
+  EXPECT_GE(searches.size(), 3u);
+  // About 11 new points per evaluation against a step of 25: two of every three skip it.
+  EXPECT_GT(waits, static_cast<int>(searches.size()));
 }
 
 TEST(DriftMonitor, RetiresAClusterWhoseWeightFadedAway) {
