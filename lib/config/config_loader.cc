@@ -830,31 +830,22 @@ void Reader::CheckAcrossKeys(const Config& config) {
                                                ") so that every cluster can be seeded, got " +
                                                std::to_string(model.warmup_particles));
   }
-  if (drift.composition.warn_jsd > drift.composition.alarm_jsd) {
-    ProblemAtKey("drift.composition.warn_jsd",
-                 "drift.composition.warn_jsd (" + NumberText(drift.composition.warn_jsd) +
-                     ") must not exceed drift.composition.alarm_jsd (" +
-                     NumberText(drift.composition.alarm_jsd) + ")");
-  }
-  if (drift.centre.warn_spreads > drift.centre.alarm_spreads) {
-    ProblemAtKey("drift.centre.warn_spreads", "drift.centre.warn_spreads (" +
-                                                  NumberText(drift.centre.warn_spreads) +
-                                                  ") must not exceed drift.centre.alarm_spreads (" +
-                                                  NumberText(drift.centre.alarm_spreads) + ")");
-  }
-  if (drift.novelty.warn_ratio > drift.novelty.alarm_ratio) {
-    ProblemAtKey("drift.novelty.warn_ratio", "drift.novelty.warn_ratio (" +
-                                                 NumberText(drift.novelty.warn_ratio) +
-                                                 ") must not exceed drift.novelty.alarm_ratio (" +
-                                                 NumberText(drift.novelty.alarm_ratio) + ")");
-  }
-  if (drift.flow.alarm_ratio > drift.flow.warn_ratio) {
-    ProblemAtKey("drift.flow.alarm_ratio", "drift.flow.alarm_ratio (" +
-                                               NumberText(drift.flow.alarm_ratio) +
-                                               ") must not exceed drift.flow.warn_ratio (" +
-                                               NumberText(drift.flow.warn_ratio) +
-                                               "): the alarm is the larger change in volume");
-  }
+  // A pair of thresholds in the wrong order: `key` (value) must not exceed `limit_key`.
+  const auto not_above = [this](const std::string& key, double value, const std::string& limit_key,
+                                double limit, const std::string& why = "") {
+    if (value > limit) {
+      ProblemAtKey(key, key + " (" + NumberText(value) + ") must not exceed " + limit_key + " (" +
+                            NumberText(limit) + ")" + why);
+    }
+  };
+  not_above("drift.composition.warn_jsd", drift.composition.warn_jsd, "drift.composition.alarm_jsd",
+            drift.composition.alarm_jsd);
+  not_above("drift.centre.warn_spreads", drift.centre.warn_spreads, "drift.centre.alarm_spreads",
+            drift.centre.alarm_spreads);
+  not_above("drift.novelty.warn_ratio", drift.novelty.warn_ratio, "drift.novelty.alarm_ratio",
+            drift.novelty.alarm_ratio);
+  not_above("drift.flow.alarm_ratio", drift.flow.alarm_ratio, "drift.flow.warn_ratio",
+            drift.flow.warn_ratio, ": the alarm is the larger change in volume");
   if (drift.novelty.birth_min_particles > model.novelty_buffer) {
     ProblemAtKey(
         "drift.novelty.birth_min_particles",
