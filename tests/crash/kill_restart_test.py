@@ -41,17 +41,18 @@ Exit code 0 when every check holds; 1 with the reasons otherwise. The work direc
 import argparse
 import csv
 import glob
-import http.client
 import json
 import os
 import random
 import shutil
 import signal
-import socket
 import subprocess
 import sys
 import tempfile
 import time
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "support"))
+from harness import FEATURES_YAML, free_port, http_request  # noqa: E402
 
 CONFIG = """\
 station: "Skerry Sound mooring B (crash test)"
@@ -59,12 +60,7 @@ input:
   drop_dir: {root}/drop
   settle_seconds: 0.2
   rescan_seconds: 1
-features:
-  - {{ column: area_um2, transform: log10 }}
-  - {{ column: aspect_ratio }}
-  - {{ column: perimeter_um, transform: log10 }}
-  - {{ column: grey_level }}
-standardize: true
+{features}standardize: true
 model:
   k: 4
   warmup_particles: 1000
@@ -87,27 +83,11 @@ FIRST_TIME = "2026-06-01T00:00:00Z"  # seston-sim's default start
 LAST_TIME = "2026-07-01T00:00:00Z"   # well after the last sample of any run here
 
 
-def free_port():
-    with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
-        probe.bind(("127.0.0.1", 0))
-        return probe.getsockname()[1]
-
-
-def http_get(port, path, timeout=5):
-    connection = http.client.HTTPConnection("127.0.0.1", port, timeout=timeout)
-    try:
-        connection.request("GET", path)
-        response = connection.getresponse()
-        return response.status, response.read().decode()
-    finally:
-        connection.close()
-
-
 def write_config(root, port):
     os.makedirs(root, exist_ok=True)
     path = os.path.join(root, "seston.yaml")
     with open(path, "w") as out:
-        out.write(CONFIG.format(root=root, port=port))
+        out.write(CONFIG.format(root=root, port=port, features=FEATURES_YAML))
     return path
 
 
@@ -206,7 +186,7 @@ class Daemon:
             if not self.alive():
                 raise RuntimeError(f"sestond exited with {self.process.returncode} at start")
             try:
-                if http_get(self.port, "/v1/health", timeout=1)[0] == 200:
+                if http_request(self.port, "GET", "/v1/health", timeout=1)[0] == 200:
                     return
             except OSError:
                 pass
@@ -318,7 +298,7 @@ def run_live(args, root, names, source, rng, report):
             feeder.top_up(len(names))
             time.sleep(0.02)
         daemon.wait_ready()
-        status, body = http_get(port, f"/v1/counts?from={FIRST_TIME}&to={LAST_TIME}")
+        status, body = http_request(port, "GET", f"/v1/counts?from={FIRST_TIME}&to={LAST_TIME}")
         if status != 200:
             raise RuntimeError(f"/v1/counts answered {status}: {body}")
         counts = json.loads(body)

@@ -10,7 +10,6 @@ Standard library only.
 """
 
 import argparse
-import http.client
 import json
 import os
 import shutil
@@ -19,8 +18,10 @@ import socket
 import subprocess
 import sys
 import tempfile
-import time
 import unittest
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "support"))
+from harness import FEATURES_YAML, free_port, http_request, wait_for  # noqa: E402,F401
 
 BINARIES = {}
 
@@ -37,12 +38,7 @@ input:
     listen: "{socket_listen}"
     max_connections: {max_connections}
     reply_linger_seconds: 0.5
-features:
-  - {{ column: area_um2, transform: log10 }}
-  - {{ column: aspect_ratio }}
-  - {{ column: perimeter_um, transform: log10 }}
-  - {{ column: grey_level }}
-standardize: true
+{features}standardize: true
 model:
   k: 4
   warmup_particles: {warmup}
@@ -83,23 +79,6 @@ def main():
     unittest.main(verbosity=2)
 
 
-def free_port():
-    with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
-        probe.bind(("127.0.0.1", 0))
-        return probe.getsockname()[1]
-
-
-def wait_for(predicate, timeout, what, interval=0.1):
-    deadline = time.monotonic() + timeout
-    last = None
-    while time.monotonic() < deadline:
-        last = predicate()
-        if last:
-            return last
-        time.sleep(interval)
-    raise AssertionError(f"timed out after {timeout} s waiting for {what} (last: {last!r})")
-
-
 class Daemon:
     """One `sestond run` in `directory`, with its config and log there."""
 
@@ -119,7 +98,8 @@ class Daemon:
                                                 max_line_bytes=max_line_bytes, warmup=warmup,
                                                 api_port=self.api_port, log_level=log_level,
                                                 retained_bins=retained_bins,
-                                                retained_samples=retained_samples))
+                                                retained_samples=retained_samples,
+                                                features=FEATURES_YAML))
         self.drop = os.path.join(directory, "drop")
         self.process = None
         self.log_path = os.path.join(directory, "sestond.log")
@@ -160,22 +140,16 @@ class Daemon:
         return code
 
     def request(self, method, path, body=None, token=None, timeout=10):
-        connection = http.client.HTTPConnection("127.0.0.1", self.api_port, timeout=timeout)
         headers = {}
         if token:
             headers["Authorization"] = f"Bearer {token}"
         if body is not None:
             headers["Content-Type"] = "application/json"
+        status, text = http_request(self.api_port, method, path, body, headers, timeout)
         try:
-            connection.request(method, path, body=body, headers=headers)
-            response = connection.getresponse()
-            text = response.read().decode()
-        finally:
-            connection.close()
-        try:
-            return response.status, json.loads(text)
+            return status, json.loads(text)
         except ValueError:
-            return response.status, text
+            return status, text
 
     def get(self, path):
         return self.request("GET", path)

@@ -12,17 +12,18 @@ Standard library only. Everything runs bounded in time and is killed when a test
 """
 
 import argparse
-import http.client
 import json
 import os
 import shutil
 import signal
-import socket
 import subprocess
 import sys
 import tempfile
-import time
 import unittest
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "support"))
+import harness  # noqa: E402
+from harness import free_port, http_request  # noqa: E402,F401  (re-exported to the tests)
 
 BINARIES = {}
 
@@ -32,12 +33,7 @@ input:
   drop_dir: ./drop
   settle_seconds: 0.2
   rescan_seconds: 1
-features:
-  - {{ column: area_um2, transform: log10 }}
-  - {{ column: aspect_ratio }}
-  - {{ column: perimeter_um, transform: log10 }}
-  - {{ column: grey_level }}
-model:
+{features}model:
   k: 4
   warmup_particles: 3000
   half_life_particles: 50000
@@ -80,28 +76,12 @@ def main():
     unittest.main(verbosity=2)
 
 
-def free_port():
-    with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as probe:
-        probe.bind(("127.0.0.1", 0))
-        return probe.getsockname()[1]
-
-
 def require_tool(name):
     """The path of an outside tool, or a unittest skip when it is not installed."""
     path = shutil.which(name)
     if path is None:
         raise unittest.SkipTest(f"{name} is not installed (tools/install-deps.sh --test)")
     return path
-
-
-def http_request(port, method, path, body=None, headers=None, timeout=5):
-    connection = http.client.HTTPConnection("127.0.0.1", port, timeout=timeout)
-    try:
-        connection.request(method, path, body=body, headers=headers or {})
-        response = connection.getresponse()
-        return response.status, response.read().decode("utf-8", "replace")
-    finally:
-        connection.close()
 
 
 def get_json(port, path):
@@ -112,19 +92,9 @@ def get_json(port, path):
 
 
 def wait_for(condition, seconds, what, interval=0.2):
-    """Calls condition() until it returns a true value, which is returned."""
-    deadline = time.monotonic() + seconds
-    last_error = None
-    while time.monotonic() < deadline:
-        try:
-            value = condition()
-            if value:
-                return value
-        except (OSError, ValueError, KeyError, AssertionError) as error:
-            last_error = error
-        time.sleep(interval)
-    raise AssertionError(f"timed out after {seconds} s waiting for {what}"
-                         + (f" (last error: {last_error})" if last_error else ""))
+    """harness.wait_for, with the errors of a daemon or tool not up yet counted as "not yet"."""
+    return harness.wait_for(condition, seconds, what, interval,
+                            tolerate=(OSError, ValueError, KeyError, AssertionError))
 
 
 class Process:
@@ -170,7 +140,8 @@ class Station:
                             "    max_retry_seconds: 2\n")
         self.config_text = CONFIG_TEMPLATE.format(api_port=self.api_port,
                                                   evaluate_every=evaluate_every,
-                                                  alertmanager=alertmanager)
+                                                  alertmanager=alertmanager,
+                                                  features=harness.FEATURES_YAML)
         with open(self.config_path, "w", encoding="utf-8") as handle:
             handle.write(self.config_text)
         with open(os.path.join(self.directory, "token"), "w", encoding="utf-8") as handle:
