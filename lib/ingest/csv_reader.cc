@@ -124,8 +124,11 @@ class SampleInterner {
  public:
   explicit SampleInterner(ParticleBatch* batch) : batch_(batch) {}
 
+  // True when `id` is the id of the row before, which was checked when it was first seen.
+  bool IsLast(std::string_view id) const { return has_last_ && batch_->samples[last_].id == id; }
+
   std::uint32_t Intern(std::string_view id) {
-    if (has_last_ && batch_->samples[last_].id == id) return last_;
+    if (IsLast(id)) return last_;
     auto found = index_.find(id);
     if (found == index_.end()) {
       const auto next = static_cast<std::uint32_t>(batch_->samples.size());
@@ -324,7 +327,7 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
                "column " + input_.sample_column + ": the sample id is empty");
         continue;
       }
-      if (!IsWellFormedUtf8(id)) {
+      if (!samples.IsLast(id) && !IsWellFormedUtf8(id)) {
         reject(RejectReason::kBadRecord, "column " + input_.sample_column +
                                              ": the sample id \"" + EscapeIllFormedUtf8(id) +
                                              "\" is not UTF-8 text");
