@@ -122,25 +122,21 @@ Civil ToCivil(double seconds) {
 
 std::optional<double> ParseEventTime(std::string_view text) {
   if (text.empty()) return std::nullopt;
-  constexpr double kLatest = 253402300799.0;  // 9999-12-31T23:59:59Z
-  // No number has '-' as its fifth character unless it is an exponent's sign, which the
-  // ISO parser then rejects at the 'e', so text shaped like a date goes there first.
-  const bool looks_like_date = text.size() > 4 && text[4] == '-';
-  if (looks_like_date) {
-    if (auto parsed = ParseIso8601(text)) {
-      return *parsed >= 0 && *parsed <= kLatest ? parsed : std::nullopt;
-    }
-  }
   // Epoch seconds: the whole field is one number.
-  double value = 0;
-  auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), value);
-  if (error == std::errc() && end == text.data() + text.size()) {
-    if (!std::isfinite(value) || value < 0 || value > kLatest) return std::nullopt;
+  const auto epoch_seconds = [text]() -> std::optional<double> {
+    double value = 0;
+    auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), value);
+    if (error != std::errc() || end != text.data() + text.size()) return std::nullopt;
     return value;
-  }
-  if (looks_like_date) return std::nullopt;
-  auto parsed = ParseIso8601(text);
-  if (!parsed || *parsed < 0 || *parsed > kLatest) return std::nullopt;
+  };
+  // No text is both, so the order only saves work: text shaped like a date (a '-' as
+  // the fifth character, which in a number can only be an exponent's sign) is tried as
+  // ISO 8601 first.
+  const bool looks_like_date = text.size() > 4 && text[4] == '-';
+  std::optional<double> parsed = looks_like_date ? ParseIso8601(text) : epoch_seconds();
+  if (!parsed) parsed = looks_like_date ? epoch_seconds() : ParseIso8601(text);
+  constexpr double kLatest = 253402300799.0;  // 9999-12-31T23:59:59Z
+  if (!parsed || !std::isfinite(*parsed) || *parsed < 0 || *parsed > kLatest) return std::nullopt;
   return parsed;
 }
 

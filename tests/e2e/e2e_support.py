@@ -25,8 +25,8 @@ from harness import FEATURES_YAML, free_port, http_request, wait_for  # noqa: E4
 
 BINARIES = {}
 
-# The demo's features (config/demo.yaml) over seston-sim's columns; small warm-up so the
-# tests reach the fitted model quickly.
+# The shared feature block (harness.FEATURES_YAML); small warm-up so the tests reach the
+# fitted model quickly.
 CONFIG_TEMPLATE = """\
 station: "Skerry Sound mooring B (end-to-end test)"
 input:
