@@ -1,10 +1,14 @@
 #include "model/kmeans_fitter.h"
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
+#include <exception>
 #include <limits>
+#include <mutex>
 #include <numeric>
 #include <string>
+#include <thread>
 
 #include "model/nearest_centre.h"
 #include "model/portable_random.h"
@@ -131,7 +135,7 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
 }  // namespace
 
 Result<KMeansFit> FitKMeans(const RowMatrix& points, int k, int restarts, int max_iterations,
-                            std::uint64_t seed) {
+                            std::uint64_t seed, int threads) {
   if (points.rows() == 0 || points.cols() == 0) {
     return Status::InvalidArgument("k-means: no points to fit (got " +
                                    std::to_string(points.rows()) + " × " +
@@ -155,13 +159,42 @@ Result<KMeansFit> FitKMeans(const RowMatrix& points, int k, int restarts, int ma
                                    std::to_string(distinct) +
                                    " distinct points; k must be at most that");
   }
+  // Restarts are independent, so they run side by side on up to one thread per core
+  // (the warm-up fit is most of a short replay's time). Every seed is drawn before any
+  // restart runs and the winner is the lowest SSE, ties to the lowest restart number,
+  // so the result does not depend on the number of threads or on their timing.
   PortableRandom restart_seeds(seed);
+  std::vector<std::uint64_t> seeds(restarts);
+  for (std::uint64_t& restart_seed : seeds) restart_seed = restart_seeds.NextRaw();
+  std::atomic<int> next_restart{0};
+  std::mutex mutex;  // guards best, best_restart and failure
   KMeansFit best;
-  for (int r = 0; r < restarts; ++r) {
-    PortableRandom random(restart_seeds.NextRaw());
-    KMeansFit fit = RunLloyd(points, SeedKMeansPlusPlus(points, k, random), max_iterations);
-    if (r == 0 || fit.sse < best.sse) best = std::move(fit);
-  }
+  int best_restart = -1;
+  std::exception_ptr failure;
+  const auto run_restarts = [&] {
+    try {
+      for (int r = next_restart++; r < restarts; r = next_restart++) {
+        PortableRandom random(seeds[r]);
+        KMeansFit fit = RunLloyd(points, SeedKMeansPlusPlus(points, k, random), max_iterations);
+        std::lock_guard lock(mutex);
+        if (best_restart < 0 || fit.sse < best.sse || (fit.sse == best.sse && r < best_restart)) {
+          best = std::move(fit);
+          best_restart = r;
+        }
+      }
+    } catch (...) {  // e.g. std::bad_alloc: rethrown on the calling thread below
+      std::lock_guard lock(mutex);
+      if (!failure) failure = std::current_exception();
+      next_restart = restarts;
+    }
+  };
+  if (threads <= 0) threads = static_cast<int>(std::max(1U, std::thread::hardware_concurrency()));
+  {
+    std::vector<std::jthread> helpers;
+    for (int t = 1; t < std::min(threads, restarts); ++t) helpers.emplace_back(run_restarts);
+    run_restarts();
+  }  // joins the helpers
+  if (failure) std::rethrow_exception(failure);
   best.restarts_run = restarts;
   return best;
 }

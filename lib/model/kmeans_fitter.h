@@ -18,6 +18,8 @@
 //    each taking the next farthest point. This is deterministic and never random.
 //  - Restarts: `restarts` independent seedings, each from its own generator whose seed is
 //    the next raw output of mt19937_64(seed); the lowest SSE wins (ties: the earliest).
+//    Restarts run side by side on up to one thread per core; the result is the same on
+//    any number of threads.
 //
 // Hand-written rather than taken from a library: the model's identity and replay
 // guarantees need this exact seeding, tie-breaking, empty-cluster rule and portable random
@@ -44,11 +46,11 @@ struct KMeansFit {
   int restarts_run = 0;
 };
 
-// Fits k clusters to `points` (n × d). Errors (InvalidArgument): empty input, a
-// non-finite value, k < 1, k greater than the number of distinct points, restarts < 1,
-// max_iterations < 1.
+// Fits k clusters to `points` (n × d), running the restarts on `threads` threads
+// (0: one per core). Errors (InvalidArgument): empty input, a non-finite value, k < 1,
+// k greater than the number of distinct points, restarts < 1, max_iterations < 1.
 Result<KMeansFit> FitKMeans(const RowMatrix& points, int k, int restarts, int max_iterations,
-                            std::uint64_t seed);
+                            std::uint64_t seed, int threads = 0);
 
 // Lloyd's iterations from given centres (k × d) without seeding, e.g. to refine the
 // current centres on new data; restarts_run is 1. Errors (InvalidArgument): empty or
