@@ -10,7 +10,6 @@
 #include <string>
 #include <thread>
 
-#include "model/nearest_centre.h"
 #include "model/portable_random.h"
 
 namespace seston {
@@ -102,33 +101,147 @@ void RelocateEmptyClusters(const RowMatrix& points, RowMatrix& sums,
   }
 }
 
+// Squared distance between a point and a centre, summed over the features in order.
+double SquaredDistance(const double* x, const double* c, Eigen::Index dims) {
+  double sum = 0;
+  for (Eigen::Index t = 0; t < dims; ++t) {
+    const double difference = x[t] - c[t];
+    sum += difference * difference;
+  }
+  return sum;
+}
+
+// The nearest centre to x (ties to the lowest index), its distance and the distance to
+// the second nearest (+infinity when k = 1). Distances, not squared.
+struct NearestTwo {
+  int label = 0;
+  double nearest = 0;
+  double second = 0;
+};
+NearestTwo FindNearestTwo(const double* x, const RowMatrix& centres) {
+  const Eigen::Index dims = centres.cols();
+  double best = std::numeric_limits<double>::infinity();
+  double runner_up = best;
+  int label = 0;
+  for (Eigen::Index j = 0; j < centres.rows(); ++j) {
+    const double squared = SquaredDistance(x, centres.row(j).data(), dims);
+    if (squared < best) {
+      runner_up = best;
+      best = squared;
+      label = static_cast<int>(j);
+    } else if (squared < runner_up) {
+      runner_up = squared;
+    }
+  }
+  return {label, std::sqrt(best), std::sqrt(runner_up)};
+}
+
+// A bound test passes only with this relative margin, so that rounding in the running
+// bounds (a few ulps per iteration) can never skip a point whose nearest centre changed;
+// a point on the margin is simply measured.
+constexpr double kBoundMargin = 1 - 1e-9;
+
+// Lloyd's iterations with Hamerly's bounds (Hamerly 2010, "Making k-means even faster"):
+// each point keeps an upper bound on the distance to its own centre and a lower bound on
+// the distance to any other; after the centres move by δ, the upper bound grows by its
+// centre's δ and the lower bound shrinks by the largest other δ. A point whose upper
+// bound is below both its lower bound and half the distance from its centre to the
+// nearest other centre cannot change cluster and is not measured. The labels, and so
+// the sums, means and iteration count, are those of plain Lloyd with exact nearest
+// assignment (ties to the lowest index); the sums are recomputed in point order every
+// iteration, so the centres are bit for bit those of the plain loop.
 KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iterations) {
+  const Eigen::Index n = points.rows();
+  const Eigen::Index dims = points.cols();
   const int k = static_cast<int>(centres.rows());
   KMeansFit fit;
-  std::vector<double> squared_distance;
-  AssignNearest(points, centres, &fit.labels, &squared_distance);
-  std::vector<int> next_labels;
-  RowMatrix sums(k, points.cols());
+  fit.labels.resize(n);
+  std::vector<double> upper(n);
+  std::vector<double> lower(n);
+  const auto measure_all = [&](std::size_t* changed) {
+    for (Eigen::Index i = 0; i < n; ++i) {
+      const NearestTwo found = FindNearestTwo(points.row(i).data(), centres);
+      if (changed != nullptr && found.label != fit.labels[i]) ++*changed;
+      fit.labels[i] = found.label;
+      upper[i] = found.nearest;
+      lower[i] = found.second;
+    }
+  };
+  measure_all(nullptr);
+
+  RowMatrix sums(k, dims);
+  RowMatrix previous(k, dims);
   std::vector<std::size_t> counts(k);
+  std::vector<double> moved(k);
+  std::vector<double> half_gap(k);
+  std::vector<double> squared_distance;
   while (fit.iterations < max_iterations) {
     sums.setZero();
     std::fill(counts.begin(), counts.end(), 0);
-    for (Eigen::Index i = 0; i < points.rows(); ++i) {
+    for (Eigen::Index i = 0; i < n; ++i) {
       sums.row(fit.labels[i]) += points.row(i);
       ++counts[fit.labels[i]];
     }
-    RelocateEmptyClusters(points, sums, counts, fit.labels, squared_distance);
+    const bool any_empty = std::find(counts.begin(), counts.end(), 0) != counts.end();
+    if (any_empty) {  // rare: the relocation rule needs every point's exact distance
+      squared_distance.resize(n);
+      for (Eigen::Index i = 0; i < n; ++i) {
+        squared_distance[i] =
+            SquaredDistance(points.row(i).data(), centres.row(fit.labels[i]).data(), dims);
+      }
+      RelocateEmptyClusters(points, sums, counts, fit.labels, squared_distance);
+    }
+    previous = centres;
     for (int c = 0; c < k; ++c) centres.row(c) = sums.row(c) / static_cast<double>(counts[c]);
     ++fit.iterations;
-    AssignNearest(points, centres, &next_labels, &squared_distance);
-    const bool converged = next_labels == fit.labels;
-    fit.labels.swap(next_labels);
-    if (converged) break;
+
+    std::size_t changed = 0;
+    if (any_empty) {  // relocated points' bounds refer to other centres: measure afresh
+      measure_all(&changed);
+    } else {
+      int most_moved = 0;
+      for (int c = 0; c < k; ++c) {
+        moved[c] = std::sqrt(SquaredDistance(centres.row(c).data(), previous.row(c).data(), dims));
+        if (moved[c] > moved[most_moved]) most_moved = c;
+      }
+      double second_most = 0;
+      for (int c = 0; c < k; ++c) {
+        if (c != most_moved) second_most = std::max(second_most, moved[c]);
+      }
+      for (int c = 0; c < k; ++c) {
+        double nearest_other = std::numeric_limits<double>::infinity();
+        for (int other = 0; other < k; ++other) {
+          if (other == c) continue;
+          nearest_other = std::min(nearest_other, SquaredDistance(centres.row(c).data(),
+                                                                  centres.row(other).data(), dims));
+        }
+        half_gap[c] = 0.5 * std::sqrt(nearest_other);
+      }
+      for (Eigen::Index i = 0; i < n; ++i) {
+        const int label = fit.labels[i];
+        upper[i] += moved[label];
+        lower[i] -= label == most_moved ? second_most : moved[most_moved];
+        const double bound = std::max(half_gap[label], lower[i]) * kBoundMargin;
+        if (upper[i] < bound) continue;
+        const double* x = points.row(i).data();
+        upper[i] = std::sqrt(SquaredDistance(x, centres.row(label).data(), dims));
+        if (upper[i] < bound) continue;
+        const NearestTwo found = FindNearestTwo(x, centres);
+        if (found.label != label) ++changed;
+        fit.labels[i] = found.label;
+        upper[i] = found.nearest;
+        lower[i] = found.second;
+      }
+    }
+    if (changed == 0) break;
   }
   fit.centres = std::move(centres);
   fit.sizes.assign(k, 0);
-  for (int label : fit.labels) ++fit.sizes[label];
-  fit.sse = std::accumulate(squared_distance.begin(), squared_distance.end(), 0.0);
+  fit.sse = 0;
+  for (Eigen::Index i = 0; i < n; ++i) {
+    ++fit.sizes[fit.labels[i]];
+    fit.sse += SquaredDistance(points.row(i).data(), fit.centres.row(fit.labels[i]).data(), dims);
+  }
   return fit;
 }
 

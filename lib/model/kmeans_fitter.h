@@ -9,9 +9,11 @@
 //    with probability proportional to D² (squared distance to the nearest centre chosen
 //    so far) and keeping the candidate that gives the lowest total D² (ties: the first
 //    drawn). Chosen centres are distinct points.
-//  - Lloyd: assign every point to its nearest centre (AssignNearest; ties to the lowest
-//    index), move each centre to the mean of its points, repeat until no assignment
-//    changes or max_iterations mean updates have been made.
+//  - Lloyd: assign every point to its nearest centre (squared distances summed in
+//    feature order; ties to the lowest index), move each centre to the mean of its
+//    points, repeat until no assignment changes or max_iterations mean updates have been
+//    made. Hamerly's bounds skip the points that provably keep their centre; the result
+//    is that of the plain iteration (tests/model/kmeans_fitter_test.cc checks it).
 //  - Empty cluster: when a cluster has no points at a mean update, it is moved onto the
 //    point farthest from its current centre (ties: lowest row), taken from a cluster
 //    that keeps at least one point; several empty clusters are handled in index order,

@@ -5,6 +5,8 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <random>
+#include <utility>
 
 #include "support/reference_kmeans.h"
 
@@ -178,6 +180,65 @@ TEST(RefineKMeans, EmptyClustersTakeTheFarthestPointsInIndexOrder) {
   EXPECT_EQ(fit->labels, (std::vector<int>{2, 0, 0, 1}));
   EXPECT_EQ(fit->sse, 0.5);
   EXPECT_EQ(fit->iterations, 1);
+}
+
+// Plain Lloyd from the given centres with the reference nearest-centre loop: what the
+// fitter's bounded iteration must reproduce. No cluster may empty on the data used.
+struct PlainLloyd {
+  RowMatrix centres;
+  std::vector<int> labels;
+  int iterations = 0;
+};
+PlainLloyd RunPlainLloyd(const RowMatrix& points, RowMatrix centres, int max_iterations) {
+  PlainLloyd result;
+  std::vector<double> squared;
+  testing::ReferenceNearest(points, centres, &result.labels, &squared);
+  while (result.iterations < max_iterations) {
+    RowMatrix sums = RowMatrix::Zero(centres.rows(), centres.cols());
+    std::vector<double> counts(centres.rows(), 0);
+    for (Eigen::Index i = 0; i < points.rows(); ++i) {
+      sums.row(result.labels[i]) += points.row(i);
+      ++counts[result.labels[i]];
+    }
+    for (Eigen::Index c = 0; c < centres.rows(); ++c) {
+      EXPECT_GT(counts[c], 0) << "the test data must not empty a cluster";
+      centres.row(c) = sums.row(c) / counts[c];
+    }
+    ++result.iterations;
+    std::vector<int> next;
+    testing::ReferenceNearest(points, centres, &next, &squared);
+    const bool converged = next == result.labels;
+    result.labels = std::move(next);
+    if (converged) break;
+  }
+  result.centres = std::move(centres);
+  return result;
+}
+
+TEST(RefineKMeans, BoundedIterationEqualsPlainLloydOnOverlappingMixtures) {
+  // Overlapping components (sd 1 around means drawn in [-3, 3]) put many points near
+  // cluster boundaries, so labels keep changing for dozens of iterations.
+  for (const auto& [dims, k] : {std::pair{2, 3}, {2, 12}, {8, 16}, {16, 5}}) {
+    std::mt19937_64 engine(dims * 100 + k);
+    std::uniform_real_distribution<double> uniform(-3, 3);
+    RowMatrix means(k, dims);
+    for (Eigen::Index c = 0; c < k; ++c) {
+      for (Eigen::Index t = 0; t < dims; ++t) means(c, t) = uniform(engine);
+    }
+    RowMatrix points;
+    std::vector<int> truth;
+    testing::DrawGaussianMixture(means, 1.0, 4000, dims + k, &points, &truth);
+    const RowMatrix start = points.topRows(k);  // a poor start: many iterations
+    const PlainLloyd plain = RunPlainLloyd(points, start, 300);
+    auto fit = RefineKMeans(points, start, 300);
+    ASSERT_TRUE(fit.ok()) << fit.status().ToString();
+    EXPECT_GT(plain.iterations, 5) << "d " << dims << " k " << k << ": too easy a case";
+    EXPECT_EQ(fit->iterations, plain.iterations) << "d " << dims << " k " << k;
+    EXPECT_EQ(fit->labels, plain.labels) << "d " << dims << " k " << k;
+    EXPECT_EQ(fit->centres, plain.centres) << "d " << dims << " k " << k;
+    EXPECT_NEAR(fit->sse, testing::ReferenceSse(points, plain.centres, plain.labels),
+                1e-9 * fit->sse);
+  }
 }
 
 }  // namespace
