@@ -74,6 +74,12 @@ void FeaturePipeline::TransformBatch(const ParticleBatch& batch, RowMatrix* out,
                           static_cast<Eigen::Index>(dims));
 }
 
+TransformedBatch FeaturePipeline::Transformed(const ParticleBatch& batch) const {
+  TransformedBatch transformed;
+  TransformBatch(batch, &transformed.rows, &transformed.kept_rows, &transformed.rejections);
+  return transformed;
+}
+
 void FeaturePipeline::FitScaler(const RowMatrix& transformed_warmup) {
   if (!scaler_.enabled() || transformed_warmup.rows() == 0) return;
   Result<Standardizer> fresh = Standardizer::Create(columns_, true);

@@ -33,6 +33,13 @@
 
 namespace seston {
 
+// TransformBatch's outputs for one batch, kept together.
+struct TransformedBatch {
+  RowMatrix rows;                        // kept rows × dims(), transformed scale
+  std::vector<std::size_t> kept_rows;    // their indices in the batch
+  std::vector<RowRejection> rejections;  // the other rows, kOutOfDomain
+};
+
 class FeaturePipeline {
  public:
   // InvalidArgument for an empty feature list, an empty column name or a column named
@@ -47,6 +54,9 @@ class FeaturePipeline {
   void TransformBatch(const ParticleBatch& batch, RowMatrix* out,
                       std::vector<std::size_t>* kept_rows,
                       std::vector<RowRejection>* rejections) const;
+  // TransformBatch into a fresh TransformedBatch. Uses only the transforms, never the scaler,
+  // so it may run on another thread while FitScaler runs on this one.
+  TransformedBatch Transformed(const ParticleBatch& batch) const;
 
   // Fits the z-score scale on transformed warm-up rows (cols() == dims()) and freezes it,
   // replacing any earlier fit. A matrix without rows leaves the pipeline unchanged. With

@@ -1,18 +1,27 @@
 #include "pipeline/file_prefetcher.h"
 
+#include <algorithm>
 #include <system_error>
 
 namespace seston {
 
 Result<std::unique_ptr<FilePrefetcher>> FilePrefetcher::Create(
     FileSystem& fs, const CsvReader& reader, std::vector<std::filesystem::path> files,
-    std::uint64_t max_file_bytes, std::size_t depth) {
+    std::uint64_t max_file_bytes, std::size_t depth, std::size_t workers,
+    const FeaturePipeline* features) {
   std::unique_ptr<FilePrefetcher> prefetcher(
-      new FilePrefetcher(fs, reader, std::move(files), max_file_bytes, depth));
-  if (depth > 0) {
+      new FilePrefetcher(fs, reader, std::move(files), max_file_bytes, depth, features));
+  if (depth == 0) return prefetcher;
+  if (workers == 0) workers = std::max(1U, std::thread::hardware_concurrency());
+  workers = std::min(workers, std::max<std::size_t>(1, prefetcher->files_.size()));
+  prefetcher->limit_ = depth + workers;
+  for (std::size_t w = 0; w < workers; ++w) {
     try {
-      prefetcher->worker_ = std::thread([raw = prefetcher.get()] { raw->Work(); });
+      std::lock_guard lock(prefetcher->mutex_);
+      prefetcher->workers_.emplace_back([raw = prefetcher.get()] { raw->Work(); });
+      ++prefetcher->workers_running_;
     } catch (const std::system_error& error) {
+      if (w > 0) break;  // fewer workers only make it slower
       return Status::Internal(std::string("cannot start the file read-ahead thread: ") +
                               error.what() + "; a read-ahead depth of 0 needs no thread");
     }
@@ -22,21 +31,25 @@ Result<std::unique_ptr<FilePrefetcher>> FilePrefetcher::Create(
 
 FilePrefetcher::FilePrefetcher(FileSystem& fs, const CsvReader& reader,
                                std::vector<std::filesystem::path> files,
-                               std::uint64_t max_file_bytes, std::size_t depth)
+                               std::uint64_t max_file_bytes, std::size_t depth,
+                               const FeaturePipeline* features)
     : fs_(fs),
       reader_(reader),
+      features_(features),
       files_(std::move(files)),
       max_file_bytes_(max_file_bytes),
       depth_(depth) {}
 
-FilePrefetcher::~FilePrefetcher() {
-  if (!worker_.joinable()) return;
+FilePrefetcher::~FilePrefetcher() { Stop(); }
+
+void FilePrefetcher::Stop() {
   {
     std::lock_guard lock(mutex_);
     stopping_ = true;
   }
   changed_.notify_all();
-  worker_.join();
+  for (std::thread& worker : workers_) worker.join();
+  workers_.clear();
 }
 
 PrefetchedFile FilePrefetcher::Load(const std::filesystem::path& path) const {
@@ -56,36 +69,43 @@ PrefetchedFile FilePrefetcher::Load(const std::filesystem::path& path) const {
     return file;
   }
   file.parsed = std::move(*parsed);
+  if (features_ != nullptr) file.transformed = features_->Transformed(file.parsed.batch);
   return file;
 }
 
 void FilePrefetcher::Work() {
-  for (const auto& path : files_) {
-    PrefetchedFile file = Load(path);
-    std::unique_lock lock(mutex_);
-    changed_.wait(lock, [this] { return stopping_ || ready_.size() < depth_; });
-    if (stopping_) break;
-    ready_.push_back(std::move(file));
+  std::unique_lock lock(mutex_);
+  while (true) {
+    changed_.wait(lock, [this] {
+      return stopping_ || claimed_ == files_.size() || claimed_ < handed_out_ + limit_;
+    });
+    if (stopping_ || claimed_ == files_.size()) break;
+    const std::size_t index = claimed_++;
     lock.unlock();
+    PrefetchedFile file = Load(files_[index]);
+    lock.lock();
+    ready_.emplace(index, std::move(file));
     changed_.notify_all();
   }
-  {
-    std::lock_guard lock(mutex_);
-    worker_finished_ = true;
-  }
+  --workers_running_;
   changed_.notify_all();
 }
 
 std::optional<PrefetchedFile> FilePrefetcher::Next() {
   if (depth_ == 0) {
-    if (next_ == files_.size()) return std::nullopt;
-    return Load(files_[next_++]);
+    if (handed_out_ == files_.size()) return std::nullopt;
+    return Load(files_[handed_out_++]);
   }
   std::unique_lock lock(mutex_);
-  changed_.wait(lock, [this] { return !ready_.empty() || worker_finished_; });
-  if (ready_.empty()) return std::nullopt;
-  PrefetchedFile file = std::move(ready_.front());
-  ready_.pop_front();
+  if (handed_out_ == files_.size()) return std::nullopt;
+  // A file is always loaded by the worker that claimed it, and the workers only stop
+  // early when the prefetcher is being destroyed, so the file handed out next arrives.
+  changed_.wait(lock, [this] { return ready_.contains(handed_out_) || workers_running_ == 0; });
+  auto it = ready_.find(handed_out_);
+  if (it == ready_.end()) return std::nullopt;  // unreachable unless every worker stopped
+  PrefetchedFile file = std::move(it->second);
+  ready_.erase(it);
+  ++handed_out_;
   lock.unlock();
   changed_.notify_all();
   return file;

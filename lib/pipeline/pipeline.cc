@@ -54,10 +54,16 @@ Result<FileOutcome> Pipeline::ProcessFile(std::string_view source, std::string_v
 
 Result<FileOutcome> Pipeline::ProcessParsed(std::string_view source, ParsedFile parsed,
                                             AssignmentSink* sink) {
-  RowMatrix transformed;
-  std::vector<std::size_t> kept;
-  std::vector<RowRejection> domain_rejections;
-  features_.TransformBatch(parsed.batch, &transformed, &kept, &domain_rejections);
+  TransformedBatch transformed = features_.Transformed(parsed.batch);
+  return ProcessParsed(source, std::move(parsed), std::move(transformed), sink);
+}
+
+Result<FileOutcome> Pipeline::ProcessParsed(std::string_view source, ParsedFile parsed,
+                                            TransformedBatch transformed_batch,
+                                            AssignmentSink* sink) {
+  RowMatrix& transformed = transformed_batch.rows;
+  const std::vector<std::size_t>& kept = transformed_batch.kept_rows;
+  const std::vector<RowRejection>& domain_rejections = transformed_batch.rejections;
 
   FileOutcome outcome;
   outcome.source = std::string(source);

@@ -94,6 +94,10 @@ class Pipeline {
   // come from csv_reader().Parse(source, ...); results and errors are ProcessFile's.
   Result<FileOutcome> ProcessParsed(std::string_view source, ParsedFile parsed,
                                     AssignmentSink* sink);
+  // ProcessParsed after the transform step too: `transformed` must be
+  // features().Transformed(parsed.batch), which needs no model and may run on any thread.
+  Result<FileOutcome> ProcessParsed(std::string_view source, ParsedFile parsed,
+                                    TransformedBatch transformed, AssignmentSink* sink);
   // The reader ProcessFile parses with: immutable, its Parse may run on any thread.
   const CsvReader& csv_reader() const { return csv_; }
 

@@ -79,7 +79,9 @@ Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& requ
                       request.quiet || progress == nullptr);
   SESTON_ASSIGN_OR_RETURN(auto prefetcher, FilePrefetcher::Create(fs, pipeline->csv_reader(), files,
                                                                   config.input.max_file_bytes,
-                                                                  request.read_ahead_files));
+                                                                  request.read_ahead_files,
+                                                                  request.read_workers,
+                                                                  &pipeline->features()));
   nlohmann::json skipped = nlohmann::json::array();
   auto skip = [&](const PrefetchedFile& file, const Status& status) {
     skipped.push_back({{"file", file.path.string()}, {"reason", status.message()}});
@@ -93,7 +95,7 @@ Result<nlohmann::json> RunReplay(const Config& config, const ReplayRequest& requ
     auto outcome = file->failure == PrefetchedFile::Failure::kParse
                        ? Result<FileOutcome>(file->status)
                        : pipeline->ProcessParsed(file->path.string(), std::move(file->parsed),
-                                                 assignments.get());
+                                                 std::move(*file->transformed), assignments.get());
     if (!outcome.ok()) {
       if (outcome.status().code() != StatusCode::kInvalidArgument) return outcome.status();
       skip(*file, outcome.status());

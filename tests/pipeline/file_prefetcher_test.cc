@@ -2,8 +2,11 @@
 
 #include <gtest/gtest.h>
 
+#include <chrono>
 #include <fstream>
 #include <string>
+#include <thread>
+#include <tuple>
 #include <vector>
 
 #include "support/test_paths.h"
@@ -38,7 +41,13 @@ std::vector<fs::path> WriteFiles(const fs::path& dir, int n) {
   return files;
 }
 
-class FilePrefetcherDepth : public ::testing::TestWithParam<std::size_t> {};
+// (read-ahead depth, workers)
+class FilePrefetcherDepth
+    : public ::testing::TestWithParam<std::tuple<std::size_t, std::size_t>> {
+ protected:
+  std::size_t depth() const { return std::get<0>(GetParam()); }
+  std::size_t workers() const { return std::get<1>(GetParam()); }
+};
 
 TEST_P(FilePrefetcherDepth, HandsOutEveryFileOnceInListOrderWithItsFailure) {
   testing::ScratchDirectory scratch;
@@ -49,7 +58,7 @@ TEST_P(FilePrefetcherDepth, HandsOutEveryFileOnceInListOrderWithItsFailure) {
   files.insert(files.begin() + 20, bad);
   const CsvReader reader = MakeReader();
   auto prefetcher =
-      FilePrefetcher::Create(PosixFileSystem::Instance(), reader, files, 1 << 20, GetParam());
+      FilePrefetcher::Create(PosixFileSystem::Instance(), reader, files, 1 << 20, depth(), workers());
   ASSERT_TRUE(prefetcher.ok());
 
   std::size_t index = 0;
@@ -77,18 +86,46 @@ TEST_P(FilePrefetcherDepth, HandsOutEveryFileOnceInListOrderWithItsFailure) {
   EXPECT_FALSE((*prefetcher)->Next().has_value());
 }
 
-INSTANTIATE_TEST_SUITE_P(InLineAndAhead, FilePrefetcherDepth, ::testing::Values(0, 1, 2, 4));
+class FilePrefetcherAhead : public FilePrefetcherDepth {};  // depth >= 1 only
+
+TEST_P(FilePrefetcherAhead, ReadsAtMostDepthPlusWorkersFilesAhead) {
+  testing::ScratchDirectory scratch;
+  const std::vector<fs::path> files = WriteFiles(scratch.path(), 20);
+  const CsvReader reader = MakeReader();
+  auto prefetcher = FilePrefetcher::Create(PosixFileSystem::Instance(), reader, files, 1 << 20,
+                                           depth(), workers());
+  ASSERT_TRUE(prefetcher.ok());
+  ASSERT_TRUE((*prefetcher)->Next().has_value());
+  // Give the workers time to fill up, then remove the files: only those already read
+  // arrive parsed, so their number is the read-ahead actually held.
+  std::this_thread::sleep_for(std::chrono::milliseconds(300));
+  for (std::size_t i = 1; i < files.size(); ++i) fs::remove(files[i]);
+  std::size_t read_ahead = 0;
+  while (auto file = (*prefetcher)->Next()) {
+    if (file->failure == PrefetchedFile::Failure::kNone) ++read_ahead;
+  }
+  EXPECT_GE(read_ahead, 1u);
+  EXPECT_LE(read_ahead, depth() + workers());
+}
+
+INSTANTIATE_TEST_SUITE_P(InLineAndAhead, FilePrefetcherDepth,
+                         ::testing::Combine(::testing::Values(0, 1, 2, 4),
+                                            ::testing::Values(1, 2, 3)));
+INSTANTIATE_TEST_SUITE_P(Ahead, FilePrefetcherAhead,
+                         ::testing::Combine(::testing::Values(1, 2, 4),
+                                            ::testing::Values(1, 2, 3)));
 
 TEST(FilePrefetcher, StopsCleanlyWhenDroppedBeforeTheEnd) {
   testing::ScratchDirectory scratch;
   const std::vector<fs::path> files = WriteFiles(scratch.path(), 30);
   const CsvReader reader = MakeReader();
-  auto prefetcher = FilePrefetcher::Create(PosixFileSystem::Instance(), reader, files, 1 << 20, 2);
+  auto prefetcher =
+      FilePrefetcher::Create(PosixFileSystem::Instance(), reader, files, 1 << 20, 2, 3);
   ASSERT_TRUE(prefetcher.ok());
   auto first = (*prefetcher)->Next();
   ASSERT_TRUE(first.has_value());
   EXPECT_EQ(first->parsed.data_rows, 1u);
-  // Must join the worker, which is blocked on the full queue, without hanging.
+  // Must join the workers, blocked on the read-ahead limit, without hanging.
   prefetcher->reset();
   EXPECT_EQ(prefetcher->get(), nullptr);
 }

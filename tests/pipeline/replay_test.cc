@@ -105,13 +105,14 @@ struct ReplayOutputs {
 };
 
 ReplayOutputs Replay(const fs::path& input, const fs::path& out, std::size_t read_ahead,
-                     std::size_t warmup_particles) {
+                     std::size_t warmup_particles, std::size_t read_workers = 1) {
   Config config = MakeConfig(out, warmup_particles);
   ReplayRequest request;
   request.paths = {input};
   request.assignments_csv = out / "assignments.csv";
   request.summary_json = out / "summary.json";
   request.read_ahead_files = read_ahead;
+  request.read_workers = read_workers;
   ManualClock clock;
   auto summary = RunReplay(config, request, PosixFileSystem::Instance(), clock, nullptr);
   EXPECT_TRUE(summary.ok()) << summary.status().message();
@@ -131,7 +132,7 @@ void ExpectSameOutputs(const ReplayOutputs& a, const ReplayOutputs& b) {
   EXPECT_EQ(a.alerts, b.alerts);
 }
 
-TEST(Replay, OutputsAreByteIdenticalWithAndWithoutReadAheadAndAcrossRuns) {
+TEST(Replay, OutputsAreByteIdenticalWithAndWithoutReadAheadAnyWorkersAndAcrossRuns) {
   testing::ScratchDirectory scratch;
   const fs::path input = scratch.path() / "in";
   const std::uint64_t rows = WriteSamples(input, 24);
@@ -141,6 +142,7 @@ TEST(Replay, OutputsAreByteIdenticalWithAndWithoutReadAheadAndAcrossRuns) {
   const ReplayOutputs in_line = Replay(input, scratch.path() / "in-line", 0, 2000);
   const ReplayOutputs ahead = Replay(input, scratch.path() / "ahead", 3, 2000);
   const ReplayOutputs again = Replay(input, scratch.path() / "again", 1, 2000);
+  const ReplayOutputs three_workers = Replay(input, scratch.path() / "three", 2, 2000, 3);
 
   // The run did real work: every row assigned (one header line plus one row each), count
   // files written.
@@ -150,6 +152,7 @@ TEST(Replay, OutputsAreByteIdenticalWithAndWithoutReadAheadAndAcrossRuns) {
   EXPECT_FALSE(in_line.counts.empty());
   ExpectSameOutputs(in_line, ahead);
   ExpectSameOutputs(ahead, again);
+  ExpectSameOutputs(in_line, three_workers);
 }
 
 TEST(Replay, SkippedFilesAreReportedWithTheirReasonAndNotCounted) {
