@@ -136,6 +136,15 @@ NearestTwo FindNearestTwo(const double* x, const RowMatrix& centres) {
   return {label, std::sqrt(best), std::sqrt(runner_up)};
 }
 
+// FindNearestTwo for a point whose squared distance to centre `own` is `own_squared`,
+// measuring only the centres that can be nearer (Elkan 2003): a centre at least twice
+// the point's distance from `own` is farther from the point than `own` is (triangle
+// inequality), and its distance from `own` minus the point's distance stands in for it
+// in the second-nearest bound. `gap` holds the distances between centres. The nearest
+// centre and its tie rule are FindNearestTwo's; the second distance may be lower.
+NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own,
+                              double own_squared, const Eigen::MatrixXd& gap);
+
 // A bound test passes only with this relative margin, so that rounding in the running
 // bounds (a few ulps per iteration) can never skip a point whose nearest centre changed;
 // a point on the margin is simply measured.
@@ -150,6 +159,30 @@ constexpr double kBoundMargin = 1 - 1e-9;
 // the sums, means and iteration count, are those of plain Lloyd with exact nearest
 // assignment (ties to the lowest index); the sums are recomputed in point order every
 // iteration, so the centres are bit for bit those of the plain loop.
+NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own,
+                              double own_squared, const Eigen::MatrixXd& gap) {
+  const double own_distance = std::sqrt(own_squared);
+  double best = own_squared;
+  int label = own;
+  double second = std::numeric_limits<double>::infinity();  // a distance, not squared
+  for (int j = 0; j < static_cast<int>(centres.rows()); ++j) {
+    if (j == own) continue;
+    if (gap(own, j) * kBoundMargin > 2 * own_distance) {
+      second = std::min(second, gap(own, j) - own_distance);
+      continue;
+    }
+    const double squared = SquaredDistance(x, centres.row(j).data(), centres.cols());
+    if (squared < best || (squared == best && j < label)) {
+      second = std::min(second, std::sqrt(best));
+      best = squared;
+      label = j;
+    } else {
+      second = std::min(second, std::sqrt(squared));
+    }
+  }
+  return {label, std::sqrt(best), second};
+}
+
 KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iterations) {
   const Eigen::Index n = points.rows();
   const Eigen::Index dims = points.cols();
@@ -174,6 +207,7 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
   std::vector<std::size_t> counts(k);
   std::vector<double> moved(k);
   std::vector<double> half_gap(k);
+  Eigen::MatrixXd gap(k, k);  // distances between centres
   std::vector<double> squared_distance;
   while (fit.iterations < max_iterations) {
     sums.setZero();
@@ -209,13 +243,18 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
         if (c != most_moved) second_most = std::max(second_most, moved[c]);
       }
       for (int c = 0; c < k; ++c) {
+        gap(c, c) = 0;
+        for (int other = c + 1; other < k; ++other) {
+          gap(c, other) = gap(other, c) = std::sqrt(
+              SquaredDistance(centres.row(c).data(), centres.row(other).data(), dims));
+        }
+      }
+      for (int c = 0; c < k; ++c) {
         double nearest_other = std::numeric_limits<double>::infinity();
         for (int other = 0; other < k; ++other) {
-          if (other == c) continue;
-          nearest_other = std::min(nearest_other, SquaredDistance(centres.row(c).data(),
-                                                                  centres.row(other).data(), dims));
+          if (other != c) nearest_other = std::min(nearest_other, gap(c, other));
         }
-        half_gap[c] = 0.5 * std::sqrt(nearest_other);
+        half_gap[c] = 0.5 * nearest_other;
       }
       for (Eigen::Index i = 0; i < n; ++i) {
         const int label = fit.labels[i];
@@ -224,9 +263,10 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
         const double bound = std::max(half_gap[label], lower[i]) * kBoundMargin;
         if (upper[i] < bound) continue;
         const double* x = points.row(i).data();
-        upper[i] = std::sqrt(SquaredDistance(x, centres.row(label).data(), dims));
+        const double own_squared = SquaredDistance(x, centres.row(label).data(), dims);
+        upper[i] = std::sqrt(own_squared);
         if (upper[i] < bound) continue;
-        const NearestTwo found = FindNearestTwo(x, centres);
+        const NearestTwo found = FindNearestTwoNear(x, centres, label, own_squared, gap);
         if (found.label != label) ++changed;
         fit.labels[i] = found.label;
         upper[i] = found.nearest;

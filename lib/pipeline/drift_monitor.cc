@@ -11,6 +11,10 @@
 namespace seston {
 namespace {
 
+// Cluster ids count the clusters ever made, a handful of births a week; a saved window
+// naming an id above this is corrupt (and would size the count table by it).
+constexpr std::uint32_t kMaxRecentId = 1U << 24;
+
 std::vector<ClusterRef> ClusterRefs(const MiniBatchKMeans& model, bool baseline) {
   std::vector<ClusterRef> refs;
   for (const auto& cluster : model.clusters()) {
@@ -113,7 +117,7 @@ Status DriftMonitor::AcceptCurrentAsBaseline(const MiniBatchKMeans& model, doubl
         "baseline needs a recent window to take its proportions from");
   }
   std::map<std::uint32_t, std::uint64_t> counts;
-  for (const auto& [id, count] : recent_counts_) {
+  for (const auto& [id, count] : RecentCounts()) {
     counts[id] = static_cast<std::uint64_t>(std::llround(count));
   }
   // The unclassified rate comes from its own window (the composition window holds
@@ -147,14 +151,26 @@ void DriftMonitor::PushRecent(std::uint32_t id) {
   }
   if (unclassified) return;
   recent_ids_.push_back(id);
-  recent_counts_[id] += 1;
+  CountRecent(id);
   if (recent_ids_.size() > drift_.composition.window_particles) {
-    const std::uint32_t oldest = recent_ids_.front();
+    --recent_counts_[recent_ids_.front()];  // counted when it was pushed
     recent_ids_.pop_front();
-    if (auto it = recent_counts_.find(oldest); it != recent_counts_.end() && --it->second <= 0) {
-      recent_counts_.erase(it);
+  }
+}
+
+void DriftMonitor::CountRecent(std::uint32_t id) {
+  if (id >= recent_counts_.size()) recent_counts_.resize(std::size_t{id} + 1, 0);
+  ++recent_counts_[id];
+}
+
+std::map<std::uint32_t, double> DriftMonitor::RecentCounts() const {
+  std::map<std::uint32_t, double> counts;
+  for (std::size_t id = 0; id < recent_counts_.size(); ++id) {
+    if (recent_counts_[id] > 0) {
+      counts[static_cast<std::uint32_t>(id)] = static_cast<double>(recent_counts_[id]);
     }
   }
+  return counts;
 }
 
 std::vector<AlertEvent> DriftMonitor::Observe(
@@ -194,7 +210,7 @@ void DriftMonitor::Evaluate(MiniBatchKMeans& model, double seconds, const LabelO
   Retirements(model, seconds, label_of, events);
   // Each detector can fail only on a broken invariant of this class (no baseline, a
   // negative count, a centre of the wrong dimension); such a reading is skipped.
-  if (auto reading = composition_.Evaluate(recent_counts_); reading.ok()) {
+  if (auto reading = composition_.Evaluate(RecentCounts()); reading.ok()) {
     ObserveReading(*reading, seconds, label_of, events);
   }
   if (centre_.has_baseline()) {
@@ -374,8 +390,13 @@ Result<DriftMonitor> DriftMonitor::FromJson(const nlohmann::json& state, const D
     SESTON_ASSIGN_OR_RETURN(monitor.policy_,
                             AlertPolicy::FromJson(state.at("policy"), alerts, station));
     for (std::uint32_t id : state.at("recent_ids").get<std::vector<std::uint32_t>>()) {
+      if (id == 0 || id > kMaxRecentId) {
+        return Status::InvalidArgument("drift state: recent_ids holds cluster id " +
+                                       std::to_string(id) + ", outside 1.." +
+                                       std::to_string(kMaxRecentId));
+      }
       monitor.recent_ids_.push_back(id);
-      monitor.recent_counts_[id] += 1;
+      monitor.CountRecent(id);
     }
     for (int flag : state.at("recent_unclassified").get<std::vector<int>>()) {
       monitor.recent_unclassified_.push_back(flag != 0);

@@ -178,7 +178,11 @@ class DriftMonitor {
   AlertPolicy policy_;
 
   std::deque<std::uint32_t> recent_ids_;           // classified ids (not 0), oldest first
-  std::map<std::uint32_t, double> recent_counts_;  // counts of recent_ids_, no zeros
+  // Counts of recent_ids_ by id (a cluster's id is its index; ids are small and dense):
+  // two map updates per particle cost more than the rest of the window bookkeeping.
+  std::vector<std::uint64_t> recent_counts_;
+  void CountRecent(std::uint32_t id);
+  std::map<std::uint32_t, double> RecentCounts() const;  // ids with a count > 0
   std::deque<bool> recent_unclassified_;           // per particle, oldest first
   std::uint64_t recent_unclassified_count_ = 0;
   std::uint64_t since_evaluation_ = 0;  // particles observed since the last evaluation

@@ -338,6 +338,25 @@ TEST(DriftMonitor, JsonRoundTripContinuesIdentically) {
   EXPECT_EQ(model_copy.ToJson(), model.ToJson());
 }
 
+TEST(DriftMonitor, SavedWindowWithAnImpossibleClusterIdIsRefusedByName) {
+  Stream stream(7);
+  MiniBatchKMeans model = MakeModel(stream);
+  DriftMonitor monitor = MakeMonitor(model);
+  double clock = kStart;
+  Feed(model, monitor, stream.Points(600, {1, 1, 1}), &clock);
+  nlohmann::json state = monitor.ToJson();
+  ASSERT_FALSE(state["recent_ids"].empty());
+  for (std::uint32_t bad : {0U, 4000000000U}) {
+    state["recent_ids"].back() = bad;
+    auto restored = DriftMonitor::FromJson(state, SmallDrift(), TestAlerts(), "Skerry Sound B");
+    ASSERT_FALSE(restored.ok()) << bad;
+    EXPECT_EQ(restored.status().code(), StatusCode::kInvalidArgument);
+    EXPECT_NE(restored.status().message().find("recent_ids holds cluster id " + std::to_string(bad)),
+              std::string::npos)
+        << restored.status().message();
+  }
+}
+
 TEST(DriftMonitor, AcceptingTheCurrentMixResolvesTheCompositionAlert) {
   Stream stream(8);
   MiniBatchKMeans model = MakeModel(stream);
