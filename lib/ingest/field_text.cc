@@ -2,6 +2,7 @@
 
 #include <charconv>
 #include <cmath>
+#include <cstdint>
 #include <set>
 #include <string>
 #include <system_error>
@@ -13,11 +14,46 @@ namespace {
 
 enum class NumberText { kNumber, kNotANumber, kOutOfRange };
 
+// Clinger's exact fast path (Clinger 1990, "How to read floating point numbers
+// accurately"): text of the form [-]digits[.digits] with at most 15 digits is m / 10^f
+// with m < 10^15 < 2^53 and f <= 15, both exact doubles, so one division gives the
+// correctly rounded value — the one std::from_chars gives, bit for bit. Hand-written
+// because from_chars cost about 25 ns a field, most of a row's parse; instrument
+// values are short plain decimals. Anything else (exponents, long digit strings, "5.",
+// ".5", inf, nan) returns false and goes to from_chars.
+bool ParsePlainDecimal(std::string_view text, double* value) {
+  constexpr double kPowersOfTen[] = {1e0, 1e1, 1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                     1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
+  std::size_t i = 0;
+  const bool negative = !text.empty() && text[0] == '-';
+  if (negative) ++i;
+  std::uint64_t mantissa = 0;
+  std::size_t digits = 0;
+  std::size_t integer_digits = 0;
+  for (; i < text.size() && text[i] >= '0' && text[i] <= '9'; ++i, ++integer_digits) {
+    mantissa = mantissa * 10 + static_cast<std::uint64_t>(text[i] - '0');
+  }
+  digits = integer_digits;
+  std::size_t fraction_digits = 0;
+  if (i < text.size() && text[i] == '.') {
+    for (++i; i < text.size() && text[i] >= '0' && text[i] <= '9'; ++i, ++fraction_digits) {
+      mantissa = mantissa * 10 + static_cast<std::uint64_t>(text[i] - '0');
+    }
+    if (fraction_digits == 0) return false;
+    digits += fraction_digits;
+  }
+  if (i != text.size() || integer_digits == 0 || digits > 15) return false;
+  const double magnitude = static_cast<double>(mantissa) / kPowersOfTen[fraction_digits];
+  *value = negative ? -magnitude : magnitude;
+  return true;
+}
+
 NumberText ParseNumber(std::string_view text, double* value) {
   if (text.size() > 1 && text[0] == '+' && text[1] != '-' && text[1] != '+') {
     text.remove_prefix(1);
   }
   if (text.empty()) return NumberText::kNotANumber;
+  if (ParsePlainDecimal(text, value)) return NumberText::kNumber;
   const char* end = text.data() + text.size();
   auto [stop, error] = std::from_chars(text.data(), end, *value);
   if (stop != end) return NumberText::kNotANumber;
