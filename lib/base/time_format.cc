@@ -30,7 +30,22 @@ bool Expect(std::string_view text, std::size_t& pos, char c) {
   return true;
 }
 
-std::optional<double> ParseIso8601(std::string_view text) {
+// The fraction (s) and zone offset (s east of UTC) after the seconds, from text[pos] to
+// the end; false when the rest is not a fraction and a zone.
+bool ParseIsoTail(std::string_view text, std::size_t pos, double* fraction,
+                  int* offset_seconds);
+
+std::optional<double> ParseIso8601(std::string_view text, IsoTimeMemo* memo) {
+  if (memo != nullptr && memo->valid && text.size() >= IsoTimeMemo::kPrefixLength &&
+      text.compare(0, IsoTimeMemo::kPrefixLength,
+                   std::string_view(memo->prefix, IsoTimeMemo::kPrefixLength)) == 0) {
+    double fraction = 0.0;
+    int offset_seconds = 0;
+    if (!ParseIsoTail(text, IsoTimeMemo::kPrefixLength, &fraction, &offset_seconds)) {
+      return std::nullopt;
+    }
+    return memo->whole_seconds + fraction - offset_seconds;
+  }
   std::size_t pos = 0;
   int year = 0, month = 0, day = 0, hour = 0, minute = 0, second = 0;
   if (!ReadDigits(text, pos, 4, year) || !Expect(text, pos, '-') ||
@@ -50,6 +65,29 @@ std::optional<double> ParseIso8601(std::string_view text) {
       if (!ReadDigits(text, pos, 2, second)) return std::nullopt;
     }
   }
+  const std::size_t clock_end = pos;
+  double fraction = 0.0;
+  int offset_seconds = 0;
+  if (!ParseIsoTail(text, pos, &fraction, &offset_seconds)) return std::nullopt;
+  if (year < 1970 || month < 1 || month > 12 || hour > 23 || minute > 59 || second > 60) {
+    return std::nullopt;
+  }
+  using namespace std::chrono;
+  year_month_day date{std::chrono::year{year}, std::chrono::month{static_cast<unsigned>(month)},
+                      std::chrono::day{static_cast<unsigned>(day)}};
+  if (!date.ok()) return std::nullopt;
+  double days = static_cast<double>(sys_days{date}.time_since_epoch().count());
+  const double whole_seconds = days * 86400.0 + hour * 3600.0 + minute * 60.0 + second;
+  if (memo != nullptr && clock_end == IsoTimeMemo::kPrefixLength) {
+    std::copy_n(text.data(), IsoTimeMemo::kPrefixLength, memo->prefix);
+    memo->whole_seconds = whole_seconds;
+    memo->valid = true;
+  }
+  return whole_seconds + fraction - offset_seconds;
+}
+
+bool ParseIsoTail(std::string_view text, std::size_t pos, double* fraction_out,
+                  int* offset_out) {
   double fraction = 0.0;
   if (pos < text.size() && (text[pos] == '.' || text[pos] == ',')) {
     ++pos;
@@ -63,7 +101,7 @@ std::optional<double> ParseIso8601(std::string_view text) {
       if (pos - start < 9) digits = digits * 10 + (text[pos] - '0');
       ++pos;
     }
-    if (pos == start) return std::nullopt;
+    if (pos == start) return false;
     fraction = static_cast<double>(digits) / kPowersOfTen[std::min<std::size_t>(pos - start, 9)];
   }
   int offset_seconds = 0;
@@ -74,23 +112,17 @@ std::optional<double> ParseIso8601(std::string_view text) {
     } else if (c == '+' || c == '-') {
       ++pos;
       int off_hour = 0, off_minute = 0;
-      if (!ReadDigits(text, pos, 2, off_hour)) return std::nullopt;
+      if (!ReadDigits(text, pos, 2, off_hour)) return false;
       if (pos < text.size() && text[pos] == ':') ++pos;
-      if (pos < text.size() && !ReadDigits(text, pos, 2, off_minute)) return std::nullopt;
-      if (off_hour > 23 || off_minute > 59) return std::nullopt;
+      if (pos < text.size() && !ReadDigits(text, pos, 2, off_minute)) return false;
+      if (off_hour > 23 || off_minute > 59) return false;
       offset_seconds = (off_hour * 3600 + off_minute * 60) * (c == '+' ? 1 : -1);
     }
   }
-  if (pos != text.size()) return std::nullopt;
-  if (year < 1970 || month < 1 || month > 12 || hour > 23 || minute > 59 || second > 60) {
-    return std::nullopt;
-  }
-  using namespace std::chrono;
-  year_month_day date{std::chrono::year{year}, std::chrono::month{static_cast<unsigned>(month)},
-                      std::chrono::day{static_cast<unsigned>(day)}};
-  if (!date.ok()) return std::nullopt;
-  double days = static_cast<double>(sys_days{date}.time_since_epoch().count());
-  return days * 86400.0 + hour * 3600.0 + minute * 60.0 + second + fraction - offset_seconds;
+  if (pos != text.size()) return false;
+  *fraction_out = fraction;
+  *offset_out = offset_seconds;
+  return true;
 }
 
 struct Civil {
@@ -120,7 +152,7 @@ Civil ToCivil(double seconds) {
 
 }  // namespace
 
-std::optional<double> ParseEventTime(std::string_view text) {
+std::optional<double> ParseEventTime(std::string_view text, IsoTimeMemo* memo) {
   if (text.empty()) return std::nullopt;
   // Epoch seconds: the whole field is one number.
   const auto epoch_seconds = [text]() -> std::optional<double> {
@@ -133,8 +165,8 @@ std::optional<double> ParseEventTime(std::string_view text) {
   // the fifth character, which in a number can only be an exponent's sign) is tried as
   // ISO 8601 first.
   const bool looks_like_date = text.size() > 4 && text[4] == '-';
-  std::optional<double> parsed = looks_like_date ? ParseIso8601(text) : epoch_seconds();
-  if (!parsed) parsed = looks_like_date ? epoch_seconds() : ParseIso8601(text);
+  std::optional<double> parsed = looks_like_date ? ParseIso8601(text, memo) : epoch_seconds();
+  if (!parsed) parsed = looks_like_date ? epoch_seconds() : ParseIso8601(text, memo);
   constexpr double kLatest = 253402300799.0;  // 9999-12-31T23:59:59Z
   if (!parsed || !std::isfinite(*parsed) || *parsed < 0 || *parsed > kLatest) return std::nullopt;
   return parsed;

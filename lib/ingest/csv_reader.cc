@@ -281,6 +281,7 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
     parsed.rejections.push_back({line_number, reason, std::move(detail)});
   };
 
+  IsoTimeMemo time_memo;
   std::string_view last_volume_text;  // points into `bytes`, which outlives the loop
   double last_volume = 0.0;
   bool have_last_volume = false;
@@ -309,7 +310,8 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
       continue;
     }
     double time = 0.0;
-    if (!ReadEventTime(input_.time_column, fields[layout.time], line_number, &time, &rejection)) {
+    if (!ReadEventTime(input_.time_column, fields[layout.time], line_number, &time, &rejection,
+                       &time_memo)) {
       parsed.rejections.push_back(std::move(rejection));
       continue;
     }

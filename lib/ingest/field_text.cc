@@ -133,9 +133,9 @@ bool ReadFeatureValue(std::string_view column, std::string_view text, std::uint6
 }
 
 bool ReadEventTime(std::string_view column, std::string_view text, std::uint64_t line,
-                   double* seconds, RowRejection* rejection) {
+                   double* seconds, RowRejection* rejection, IsoTimeMemo* memo) {
   const std::string_view trimmed = TrimBlanks(text);
-  if (std::optional<double> parsed = ParseEventTime(trimmed)) {
+  if (std::optional<double> parsed = ParseEventTime(trimmed, memo)) {
     *seconds = *parsed;
     return true;
   }

@@ -14,6 +14,7 @@
 #include <vector>
 
 #include "base/status.h"
+#include "base/time_format.h"
 #include "ingest/input_options.h"
 #include "ingest/particle_batch.h"
 
@@ -40,9 +41,10 @@ std::string EscapeIllFormedUtf8(std::string_view text);
 bool ReadFeatureValue(std::string_view column, std::string_view text, std::uint64_t line,
                       double* value, RowRejection* rejection);
 
-// Epoch seconds or ISO 8601 UTC (base/time_format.h); kBadTime otherwise.
+// Epoch seconds or ISO 8601 UTC (base/time_format.h); kBadTime otherwise. `memo`
+// (optional) is ParseEventTime's.
 bool ReadEventTime(std::string_view column, std::string_view text, std::uint64_t line,
-                   double* seconds, RowRejection* rejection);
+                   double* seconds, RowRejection* rejection, IsoTimeMemo* memo = nullptr);
 
 // A positive finite number of mL; kBadVolume otherwise.
 bool ReadVolume(std::string_view column, std::string_view text, std::uint64_t line,

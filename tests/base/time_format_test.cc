@@ -2,6 +2,12 @@
 
 #include <gtest/gtest.h>
 
+#include <bit>
+#include <cstdint>
+#include <random>
+#include <string>
+#include <vector>
+
 namespace seston {
 namespace {
 
@@ -43,6 +49,41 @@ TEST(TimeFormat, RejectsGarbageAndImpossibleDates) {
   EXPECT_FALSE(ParseEventTime("nan").has_value());
   EXPECT_FALSE(ParseEventTime("2026-12").has_value());
   EXPECT_FALSE(ParseEventTime("1969-12-31T23:59:59Z").has_value());
+}
+
+TEST(TimeFormat, MemoisedParseEqualsThePlainParseBitForBit) {
+  // A stream of times as records give them: runs within one second, then the next
+  // second, with every tail the parser knows and some it must refuse, and prefixes that
+  // are impossible (never remembered) between good ones.
+  const std::vector<std::string> prefixes = {
+      "2026-06-01T00:00:00", "2026-06-01T00:00:01", "2026-06-01 00:00:01",
+      "2026-02-30T00:00:00", "2026-06-01T23:59:60", "2026-06-01T24:00:00",
+      "2026-12-31T23:59:59", "1970-01-01T00:00:00", "2026-06-01t00:00:01"};
+  const std::vector<std::string> tails = {"",       "Z",      ".029Z",   ".5",      ",25Z",
+                                          ".Z",     "+02:00", "-0130",   ".75+01",  "x",
+                                          "5",      ".123456789123Z", "Z ", "+25:00", ".9z"};
+  std::mt19937_64 engine(31);
+  std::uniform_int_distribution<std::size_t> pick_prefix(0, prefixes.size() - 1);
+  std::uniform_int_distribution<std::size_t> pick_tail(0, tails.size() - 1);
+  std::uniform_int_distribution<int> run(1, 6);
+  IsoTimeMemo memo;
+  int remembered = 0;
+  for (int n = 0; n < 3000; ++n) {
+    const std::string& prefix = prefixes[pick_prefix(engine)];
+    for (int r = run(engine); r > 0; --r) {
+      const std::string text = prefix + tails[pick_tail(engine)];
+      const bool hit = memo.valid && text.compare(0, 19, std::string(memo.prefix, 19)) == 0;
+      remembered += hit ? 1 : 0;
+      const std::optional<double> plain = ParseEventTime(text);
+      const std::optional<double> memoised = ParseEventTime(text, &memo);
+      ASSERT_EQ(plain.has_value(), memoised.has_value()) << text;
+      if (plain) {
+        EXPECT_EQ(std::bit_cast<std::uint64_t>(*plain), std::bit_cast<std::uint64_t>(*memoised))
+            << text;
+      }
+    }
+  }
+  EXPECT_GT(remembered, 1000);  // the memoised path was taken, often
 }
 
 TEST(TimeFormat, FormatsRoundTrip) {
