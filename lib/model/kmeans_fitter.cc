@@ -136,29 +136,17 @@ NearestTwo FindNearestTwo(const double* x, const RowMatrix& centres) {
   return {label, std::sqrt(best), std::sqrt(runner_up)};
 }
 
+// A bound test passes only with this relative margin, so that rounding in the running
+// bounds (a few ulps per iteration) can never skip a point whose nearest centre changed;
+// a point on the margin is simply measured.
+constexpr double kBoundMargin = 1 - 1e-9;
+
 // FindNearestTwo for a point whose squared distance to centre `own` is `own_squared`,
 // measuring only the centres that can be nearer (Elkan 2003): a centre at least twice
 // the point's distance from `own` is farther from the point than `own` is (triangle
 // inequality), and its distance from `own` minus the point's distance stands in for it
 // in the second-nearest bound. `gap` holds the distances between centres. The nearest
 // centre and its tie rule are FindNearestTwo's; the second distance may be lower.
-NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own,
-                              double own_squared, const Eigen::MatrixXd& gap);
-
-// A bound test passes only with this relative margin, so that rounding in the running
-// bounds (a few ulps per iteration) can never skip a point whose nearest centre changed;
-// a point on the margin is simply measured.
-constexpr double kBoundMargin = 1 - 1e-9;
-
-// Lloyd's iterations with Hamerly's bounds (Hamerly 2010, "Making k-means even faster"):
-// each point keeps an upper bound on the distance to its own centre and a lower bound on
-// the distance to any other; after the centres move by δ, the upper bound grows by its
-// centre's δ and the lower bound shrinks by the largest other δ. A point whose upper
-// bound is below both its lower bound and half the distance from its centre to the
-// nearest other centre cannot change cluster and is not measured. The labels, and so
-// the sums, means and iteration count, are those of plain Lloyd with exact nearest
-// assignment (ties to the lowest index); the sums are recomputed in point order every
-// iteration, so the centres are bit for bit those of the plain loop.
 NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own,
                               double own_squared, const Eigen::MatrixXd& gap) {
   const double own_distance = std::sqrt(own_squared);
@@ -183,6 +171,15 @@ NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own
   return {label, std::sqrt(best), second};
 }
 
+// Lloyd's iterations with Hamerly's bounds (Hamerly 2010, "Making k-means even faster"):
+// each point keeps an upper bound on the distance to its own centre and a lower bound on
+// the distance to any other; after the centres move by δ, the upper bound grows by its
+// centre's δ and the lower bound shrinks by the largest other δ. A point whose upper
+// bound is below both its lower bound and half the distance from its centre to the
+// nearest other centre cannot change cluster and is not measured. The labels, and so
+// the sums, means and iteration count, are those of plain Lloyd with exact nearest
+// assignment (ties to the lowest index); the sums are recomputed in point order every
+// iteration, so the centres are bit for bit those of the plain loop.
 KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iterations) {
   const Eigen::Index n = points.rows();
   const Eigen::Index dims = points.cols();

@@ -12,7 +12,8 @@
 //  - Lloyd: assign every point to its nearest centre (squared distances summed in
 //    feature order; ties to the lowest index), move each centre to the mean of its
 //    points, repeat until no assignment changes or max_iterations mean updates have been
-//    made. Hamerly's bounds skip the points that provably keep their centre; the result
+//    made. Hamerly's bounds skip the points that provably keep their centre, and
+//    Elkan's centre-distance test the centres that cannot be nearer; the result
 //    is that of the plain iteration (tests/model/kmeans_fitter_test.cc checks it).
 //  - Empty cluster: when a cluster has no points at a mean update, it is moved onto the
 //    point farthest from its current centre (ties: lowest row), taken from a cluster
