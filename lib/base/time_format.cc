@@ -7,6 +7,8 @@
 #include <cstdint>
 #include <cstdio>
 
+#include "base/exact_decimal.h"
+
 namespace seston {
 namespace {
 
@@ -94,7 +96,6 @@ bool ParseIsoTail(std::string_view text, std::size_t pos, double* fraction_out,
     // The first nine digits (nanoseconds) as one integer and one division: a row's time
     // is parsed for every particle, and a division per digit was most of its cost.
     // Further digits are read and dropped.
-    static constexpr double kPowersOfTen[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9};
     const std::size_t start = pos;
     std::int64_t digits = 0;
     while (pos < text.size() && text[pos] >= '0' && text[pos] <= '9') {
@@ -102,7 +103,8 @@ bool ParseIsoTail(std::string_view text, std::size_t pos, double* fraction_out,
       ++pos;
     }
     if (pos == start) return false;
-    fraction = static_cast<double>(digits) / kPowersOfTen[std::min<std::size_t>(pos - start, 9)];
+    fraction =
+        static_cast<double>(digits) / kExactPowersOfTen[std::min<std::size_t>(pos - start, 9)];
   }
   int offset_seconds = 0;
   if (pos < text.size()) {

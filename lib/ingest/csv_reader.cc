@@ -282,9 +282,8 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
   };
 
   IsoTimeMemo time_memo;
-  std::string_view last_volume_text;  // points into `bytes`, which outlives the loop
+  std::string_view last_volume_text;  // the last good volume's; empty: none yet
   double last_volume = 0.0;
-  bool have_last_volume = false;
   while (cursor < end) {
     const char* const line_start = cursor;
     const std::string_view line = NextLine(&cursor, end);
@@ -329,12 +328,11 @@ Result<ParsedFile> CsvReader::Parse(std::string_view source_name, std::string_vi
     double volume = 0.0;
     if (layout.volume) {
       const std::string_view text = fields[*layout.volume];
-      if (have_last_volume && text == last_volume_text) {
+      if (!last_volume_text.empty() && text == last_volume_text) {
         volume = last_volume;
       } else if (ReadVolume(input_.volume_column, text, line_number, &volume, &rejection)) {
-        last_volume_text = text;
+        last_volume_text = text;  // never empty: an empty field is not a volume
         last_volume = volume;
-        have_last_volume = true;
       } else {
         parsed.rejections.push_back(std::move(rejection));
         continue;

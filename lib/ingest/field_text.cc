@@ -7,6 +7,7 @@
 #include <string>
 #include <system_error>
 
+#include "base/exact_decimal.h"
 #include "base/time_format.h"
 
 namespace seston {
@@ -22,28 +23,25 @@ enum class NumberText { kNumber, kNotANumber, kOutOfRange };
 // values are short plain decimals. Anything else (exponents, long digit strings, "5.",
 // ".5", inf, nan) returns false and goes to from_chars.
 bool ParsePlainDecimal(std::string_view text, double* value) {
-  constexpr double kPowersOfTen[] = {1e0, 1e1, 1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
-                                     1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
   std::size_t i = 0;
   const bool negative = !text.empty() && text[0] == '-';
   if (negative) ++i;
   std::uint64_t mantissa = 0;
-  std::size_t digits = 0;
   std::size_t integer_digits = 0;
   for (; i < text.size() && text[i] >= '0' && text[i] <= '9'; ++i, ++integer_digits) {
     mantissa = mantissa * 10 + static_cast<std::uint64_t>(text[i] - '0');
   }
-  digits = integer_digits;
   std::size_t fraction_digits = 0;
   if (i < text.size() && text[i] == '.') {
     for (++i; i < text.size() && text[i] >= '0' && text[i] <= '9'; ++i, ++fraction_digits) {
       mantissa = mantissa * 10 + static_cast<std::uint64_t>(text[i] - '0');
     }
     if (fraction_digits == 0) return false;
-    digits += fraction_digits;
   }
-  if (i != text.size() || integer_digits == 0 || digits > 15) return false;
-  const double magnitude = static_cast<double>(mantissa) / kPowersOfTen[fraction_digits];
+  if (i != text.size() || integer_digits == 0 || integer_digits + fraction_digits > 15) {
+    return false;
+  }
+  const double magnitude = static_cast<double>(mantissa) / kExactPowersOfTen[fraction_digits];
   *value = negative ? -magnitude : magnitude;
   return true;
 }

@@ -10,6 +10,7 @@
 #include <string>
 #include <thread>
 
+#include "model/nearest_centre.h"
 #include "model/portable_random.h"
 
 namespace seston {
@@ -99,16 +100,6 @@ void RelocateEmptyClusters(const RowMatrix& points, RowMatrix& sums,
     labels[farthest] = static_cast<int>(empty);
     squared_distance[farthest] = -1;
   }
-}
-
-// Squared distance between a point and a centre, summed over the features in order.
-double SquaredDistance(const double* x, const double* c, Eigen::Index dims) {
-  double sum = 0;
-  for (Eigen::Index t = 0; t < dims; ++t) {
-    const double difference = x[t] - c[t];
-    sum += difference * difference;
-  }
-  return sum;
 }
 
 // The nearest centre to x (ties to the lowest index), its distance and the distance to

@@ -25,12 +25,7 @@ void AssignByLoop(const RowMatrix& points, const RowMatrix& centres, std::vector
     double best = std::numeric_limits<double>::infinity();
     int best_index = 0;
     for (Eigen::Index j = 0; j < centres.rows(); ++j) {
-      const double* c = centres.row(j).data();
-      double sum = 0;
-      for (Eigen::Index t = 0; t < dims; ++t) {
-        const double difference = x[t] - c[t];
-        sum += difference * difference;
-      }
+      const double sum = SquaredDistance(x, centres.row(j).data(), dims);
       if (sum < best) {
         best = sum;
         best_index = static_cast<int>(j);

@@ -26,6 +26,17 @@ namespace seston {
 
 enum class NearestCentreMethod { kAuto, kLoop, kMatrixProduct };
 
+// ‖x − c‖² over `dims` features, summed in feature order: the loop method's distance,
+// and the one k-means fitting compares, so both round alike.
+inline double SquaredDistance(const double* x, const double* c, Eigen::Index dims) {
+  double sum = 0;
+  for (Eigen::Index t = 0; t < dims; ++t) {
+    const double difference = x[t] - c[t];
+    sum += difference * difference;
+  }
+  return sum;
+}
+
 // For each row i of `points` (n × d) writes the index of the nearest row of `centres`
 // (k × d, k ≥ 1) to (*index)[i] and its squared distance to (*squared_distance)[i];
 // both vectors are resized to n. Preconditions: same d, k ≥ 1.

@@ -91,7 +91,7 @@ class FilePrefetcher {
 
   std::mutex mutex_;
   std::condition_variable changed_;  // a file was loaded or handed out, or the run ends
-  std::size_t claimed_ = 0;          // files taken up by a worker (or by Next(), depth 0)
+  std::size_t claimed_ = 0;          // files taken up by a worker
   std::size_t handed_out_ = 0;       // files returned by Next()
   std::map<std::size_t, PrefetchedFile> ready_;  // loaded, by list index
   std::size_t workers_running_ = 0;
