@@ -25,9 +25,12 @@
 // Line numbers are 1-based physical lines of the file, the header included.
 // An empty sample id is rejected with kBadRecord.
 //
-// Speed: one pass over the bytes; fields are string_views into the input (a copy is
-// made only for a quoted field holding ""); numbers are read with std::from_chars;
-// consecutive rows of one sample reuse its index without a hash lookup.
+// Speed: an unquoted row whose feature fields are plain decimals ([-]digits[.digits],
+// at most 15 digits — what instruments write) is read in one pass, each feature value
+// straight from the bytes; any other row is split into string_views (a copy only for a
+// quoted field holding "") and each field read on its own (std::from_chars for the
+// numbers the fast decimal reader leaves), with the same values and rejections.
+// Consecutive rows of one sample reuse its index without a hash lookup.
 //
 // Thread safety: a CsvReader is immutable after Create; Parse may run concurrently.
 #pragma once

@@ -15,44 +15,13 @@ namespace {
 
 enum class NumberText { kNumber, kNotANumber, kOutOfRange };
 
-// Clinger's exact fast path (Clinger 1990, "How to read floating point numbers
-// accurately"): text of the form [-]digits[.digits] with at most 15 digits is m / 10^f
-// with m < 10^15 < 2^53 and f <= 15, both exact doubles, so one division gives the
-// correctly rounded value — the one std::from_chars gives, bit for bit. Hand-written
-// because from_chars cost about 25 ns a field, most of a row's parse; instrument
-// values are short plain decimals. Anything else (exponents, long digit strings, "5.",
-// ".5", inf, nan) returns false and goes to from_chars.
-bool ParsePlainDecimal(std::string_view text, double* value) {
-  std::size_t i = 0;
-  const bool negative = !text.empty() && text[0] == '-';
-  if (negative) ++i;
-  std::uint64_t mantissa = 0;
-  std::size_t integer_digits = 0;
-  for (; i < text.size() && text[i] >= '0' && text[i] <= '9'; ++i, ++integer_digits) {
-    mantissa = mantissa * 10 + static_cast<std::uint64_t>(text[i] - '0');
-  }
-  std::size_t fraction_digits = 0;
-  if (i < text.size() && text[i] == '.') {
-    for (++i; i < text.size() && text[i] >= '0' && text[i] <= '9'; ++i, ++fraction_digits) {
-      mantissa = mantissa * 10 + static_cast<std::uint64_t>(text[i] - '0');
-    }
-    if (fraction_digits == 0) return false;
-  }
-  if (i != text.size() || integer_digits == 0 || integer_digits + fraction_digits > 15) {
-    return false;
-  }
-  const double magnitude = static_cast<double>(mantissa) / kExactPowersOfTen[fraction_digits];
-  *value = negative ? -magnitude : magnitude;
-  return true;
-}
-
 NumberText ParseNumber(std::string_view text, double* value) {
   if (text.size() > 1 && text[0] == '+' && text[1] != '-' && text[1] != '+') {
     text.remove_prefix(1);
   }
   if (text.empty()) return NumberText::kNotANumber;
-  if (ParsePlainDecimal(text, value)) return NumberText::kNumber;
   const char* end = text.data() + text.size();
+  if (ReadPlainDecimal(text.data(), end, value) == end) return NumberText::kNumber;
   auto [stop, error] = std::from_chars(text.data(), end, *value);
   if (stop != end) return NumberText::kNotANumber;
   if (error == std::errc::result_out_of_range) return NumberText::kOutOfRange;
@@ -72,6 +41,37 @@ void Reject(std::uint64_t line, RejectReason reason, std::string_view column, st
 }
 
 }  // namespace
+
+// Clinger's exact fast path (Clinger 1990, "How to read floating point numbers
+// accurately"): text of the form [-]digits[.digits] with at most 15 digits is m / 10^f
+// with m < 10^15 < 2^53 and f <= 15, both exact doubles, so one division gives the
+// correctly rounded value — the one std::from_chars gives, bit for bit. Hand-written
+// because from_chars cost about 25 ns a field, most of a row's parse; instrument
+// values are short plain decimals.
+const char* ReadPlainDecimal(const char* begin, const char* end, double* value) {
+  const char* p = begin;
+  const bool negative = p < end && *p == '-';
+  if (negative) ++p;
+  std::uint64_t mantissa = 0;
+  const char* const digits = p;
+  for (; p < end && *p >= '0' && *p <= '9'; ++p) {
+    mantissa = mantissa * 10 + static_cast<std::uint64_t>(*p - '0');
+  }
+  const std::ptrdiff_t integer_digits = p - digits;
+  std::ptrdiff_t fraction_digits = 0;
+  if (p < end && *p == '.') {
+    const char* const fraction = ++p;
+    for (; p < end && *p >= '0' && *p <= '9'; ++p) {
+      mantissa = mantissa * 10 + static_cast<std::uint64_t>(*p - '0');
+    }
+    fraction_digits = p - fraction;
+    if (fraction_digits == 0) return nullptr;
+  }
+  if (integer_digits == 0 || integer_digits + fraction_digits > 15) return nullptr;
+  const double magnitude = static_cast<double>(mantissa) / kExactPowersOfTen[fraction_digits];
+  *value = negative ? -magnitude : magnitude;
+  return p;
+}
 
 Status CheckColumnNames(const InputOptions& input,
                         const std::vector<std::string>& feature_columns) {

@@ -41,6 +41,15 @@ std::string EscapeIllFormedUtf8(std::string_view text);
 bool ReadFeatureValue(std::string_view column, std::string_view text, std::uint64_t line,
                       double* value, RowRejection* rejection);
 
+// Reads [-]digits[.digits] with at most 15 digits in all (at least one before the point,
+// and one after it if there is a point) from the start of [begin, end): sets *value to
+// the double std::from_chars gives for that text, bit for bit, and returns the end of
+// the number; nullptr when the text does not start with such a number, or when more
+// digits follow the 15th. Anything else ReadFeatureValue accepts — '+', exponents, "5.",
+// ".5", long digit strings — is left to it. Used by ReadFeatureValue and by the CSV
+// reader's one-pass row path.
+const char* ReadPlainDecimal(const char* begin, const char* end, double* value);
+
 // Epoch seconds or ISO 8601 UTC (base/time_format.h); kBadTime otherwise. `memo`
 // (optional) is ParseEventTime's.
 bool ReadEventTime(std::string_view column, std::string_view text, std::uint64_t line,
