@@ -143,23 +143,27 @@ NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own
   const double own_distance = std::sqrt(own_squared);
   double best = own_squared;
   int label = own;
-  double second = std::numeric_limits<double>::infinity();  // a distance, not squared
+  // The second-nearest bound from the skipped centres (a distance) and from the measured
+  // ones (squared, so that only one square root is taken: sqrt is correctly rounded and
+  // monotone, so sqrt(min) is the min of the square roots, bit for bit).
+  double second_skipped = std::numeric_limits<double>::infinity();
+  double second_squared = std::numeric_limits<double>::infinity();
   for (int j = 0; j < static_cast<int>(centres.rows()); ++j) {
     if (j == own) continue;
     if (gap(own, j) * kBoundMargin > 2 * own_distance) {
-      second = std::min(second, gap(own, j) - own_distance);
+      second_skipped = std::min(second_skipped, gap(own, j) - own_distance);
       continue;
     }
     const double squared = SquaredDistance(x, centres.row(j).data(), centres.cols());
     if (squared < best || (squared == best && j < label)) {
-      second = std::min(second, std::sqrt(best));
+      second_squared = std::min(second_squared, best);
       best = squared;
       label = j;
     } else {
-      second = std::min(second, std::sqrt(squared));
+      second_squared = std::min(second_squared, squared);
     }
   }
-  return {label, std::sqrt(best), second};
+  return {label, std::sqrt(best), std::min(second_skipped, std::sqrt(second_squared))};
 }
 
 // Lloyd's iterations with Hamerly's bounds (Hamerly 2010, "Making k-means even faster"):
@@ -200,8 +204,10 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
   while (fit.iterations < max_iterations) {
     sums.setZero();
     std::fill(counts.begin(), counts.end(), 0);
-    for (Eigen::Index i = 0; i < n; ++i) {
-      sums.row(fit.labels[i]) += points.row(i);
+    for (Eigen::Index i = 0; i < n; ++i) {  // raw rows: Eigen's row blocks cost more here
+      const double* x = points.row(i).data();
+      double* sum = sums.row(fit.labels[i]).data();
+      for (Eigen::Index t = 0; t < dims; ++t) sum[t] += x[t];
       ++counts[fit.labels[i]];
     }
     const bool any_empty = std::find(counts.begin(), counts.end(), 0) != counts.end();
@@ -233,8 +239,8 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
       for (int c = 0; c < k; ++c) {
         gap(c, c) = 0;
         for (int other = c + 1; other < k; ++other) {
-          gap(c, other) = gap(other, c) = std::sqrt(
-              SquaredDistance(centres.row(c).data(), centres.row(other).data(), dims));
+          gap(c, other) = gap(other, c) =
+              std::sqrt(SquaredDistance(centres.row(c).data(), centres.row(other).data(), dims));
         }
       }
       for (int c = 0; c < k; ++c) {
