@@ -12,7 +12,11 @@ Result<std::unique_ptr<FilePrefetcher>> FilePrefetcher::Create(
   std::unique_ptr<FilePrefetcher> prefetcher(
       new FilePrefetcher(fs, reader, std::move(files), max_file_bytes, depth, features));
   if (depth == 0) return prefetcher;
-  if (workers == 0) workers = std::max(1U, std::thread::hardware_concurrency());
+  // One core is left to the caller's thread, which clusters: on 2 cores one worker
+  // keeps up with clustering, and a second only competes with it for the cores (measured
+  // about 5 % slower, and a file more held in memory; tools/reports/performance.md).
+  if (workers == 0) workers = std::max(1U, std::thread::hardware_concurrency()) - 1;
+  workers = std::max<std::size_t>(workers, 1);
   workers = std::min(workers, std::max<std::size_t>(1, prefetcher->files_.size()));
   prefetcher->limit_ = depth + workers;
   for (std::size_t w = 0; w < workers; ++w) {

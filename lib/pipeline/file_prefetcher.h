@@ -1,7 +1,8 @@
 // FilePrefetcher: reads and parses a fixed list of input files ahead of their use, on
 // worker threads of its own, so that replay clusters one file while the next ones are
-// read and parsed (on two cores parsing and clustering overlap instead of taking turns,
-// and two workers parse two files at once when parsing is the slower stage).
+// read and parsed (on two cores parsing and clustering overlap instead of taking turns;
+// with more cores, more workers parse several files at once when parsing is the slower
+// stage).
 //
 // Order: Next() hands the files out in exactly the order given, each once, whatever the
 // timing of the threads, so the consumer's results do not depend on the read-ahead or
@@ -59,13 +60,14 @@ class FilePrefetcher {
  public:
   // `depth`: parsed files that may wait ready (0: no thread, read in Next()); a depth of
   // 2 keeps the workers a file ahead while the caller works on a file. `workers`: threads
-  // reading and parsing (0: one per core; ignored with depth 0). `features` (optional,
-  // must outlive the prefetcher): also transform each parsed file. Files larger than
-  // `max_file_bytes` fail to read. Error: Internal when no thread can start.
-  static Result<std::unique_ptr<FilePrefetcher>> Create(
-      FileSystem& fs, const CsvReader& reader, std::vector<std::filesystem::path> files,
-      std::uint64_t max_file_bytes, std::size_t depth, std::size_t workers = 1,
-      const FeaturePipeline* features = nullptr);
+  // reading and parsing (0: one per core but one, at least 1; ignored with depth 0).
+  // `features` (optional, must outlive the prefetcher): also transform each parsed file.
+  // Files larger than `max_file_bytes` fail to read. Error: Internal when no thread can start.
+  static Result<std::unique_ptr<FilePrefetcher>> Create(FileSystem& fs, const CsvReader& reader,
+                                                        std::vector<std::filesystem::path> files,
+                                                        std::uint64_t max_file_bytes,
+                                                        std::size_t depth, std::size_t workers = 1,
+                                                        const FeaturePipeline* features = nullptr);
   ~FilePrefetcher();
   FilePrefetcher(const FilePrefetcher&) = delete;
   FilePrefetcher& operator=(const FilePrefetcher&) = delete;
@@ -90,9 +92,9 @@ class FilePrefetcher {
   std::size_t limit_ = 0;  // files that may be taken up and not handed out: depth + workers
 
   std::mutex mutex_;
-  std::condition_variable changed_;  // a file was loaded or handed out, or the run ends
-  std::size_t claimed_ = 0;          // files taken up by a worker
-  std::size_t handed_out_ = 0;       // files returned by Next()
+  std::condition_variable changed_;              // a file was loaded or handed out, or the run ends
+  std::size_t claimed_ = 0;                      // files taken up by a worker
+  std::size_t handed_out_ = 0;                   // files returned by Next()
   std::map<std::size_t, PrefetchedFile> ready_;  // loaded, by list index
   std::size_t workers_running_ = 0;
   bool stopping_ = false;

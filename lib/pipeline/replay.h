@@ -13,11 +13,12 @@
 // and a human table of groups and counts.
 //
 // Speed: the next files are read (whole, one read per file) and parsed on worker
-// threads, one per core by default, while the pipeline thread clusters the current one
-// (ReplayRequest::read_ahead_files, read_workers); files are still taken strictly in
-// order, so the outputs are the same byte for byte with or without read-ahead and with
-// any number of workers. Memory stays bounded by a few files whatever the number of
-// files. tools/reports/performance.md has the measured figures.
+// threads (by default one per core but one, at least one) while the pipeline thread
+// clusters the current one (ReplayRequest::read_ahead_files, read_workers); files are
+// still taken strictly in order, so the outputs are the same byte for byte with or
+// without read-ahead and with any number of workers. Memory stays bounded by a few
+// files whatever the number of files. tools/reports/performance.md has the measured
+// figures.
 //
 // Thread safety: one call at a time. With read-ahead, `fs` is used from several threads.
 #pragma once
@@ -45,7 +46,8 @@ struct ReplayRequest {
   // Parsed files read ahead on a second thread while the pipeline clusters (see
   // pipeline/file_prefetcher.h); 0 reads and parses in line. Outputs do not depend on it.
   std::size_t read_ahead_files = 2;
-  // Threads reading and parsing ahead (0: one per core). Outputs do not depend on it.
+  // Threads reading and parsing ahead (0: one per core but one, at least 1). Outputs do
+  // not depend on it.
   std::size_t read_workers = 0;
 };
 
