@@ -173,8 +173,8 @@ NearestTwo FindNearestTwoNear(const double* x, const RowMatrix& centres, int own
 // bound is below both its lower bound and half the distance from its centre to the
 // nearest other centre cannot change cluster and is not measured. The labels, and so
 // the sums, means and iteration count, are those of plain Lloyd with exact nearest
-// assignment (ties to the lowest index); the sums are recomputed in point order every
-// iteration, so the centres are bit for bit those of the plain loop.
+// assignment (ties to the lowest index); a cluster's sum is taken in point order, afresh
+// whenever its points changed, so the centres are bit for bit those of the plain loop.
 KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iterations) {
   const Eigen::Index n = points.rows();
   const Eigen::Index dims = points.cols();
@@ -201,15 +201,25 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
   std::vector<double> half_gap(k);
   Eigen::MatrixXd gap(k, k);  // distances between centres
   std::vector<double> squared_distance;
+  // Clusters whose points changed since their sums were last taken. A cluster that kept
+  // the same points has the same sum, bit for bit, as one taken afresh in point order, so
+  // only the changed clusters are summed again: late iterations move few points.
+  std::vector<char> resum(k, 1);
   while (fit.iterations < max_iterations) {
-    sums.setZero();
-    std::fill(counts.begin(), counts.end(), 0);
-    for (Eigen::Index i = 0; i < n; ++i) {  // raw rows: Eigen's row blocks cost more here
-      const double* x = points.row(i).data();
-      double* sum = sums.row(fit.labels[i]).data();
-      for (Eigen::Index t = 0; t < dims; ++t) sum[t] += x[t];
-      ++counts[fit.labels[i]];
+    for (int c = 0; c < k; ++c) {
+      if (!resum[c]) continue;
+      sums.row(c).setZero();
+      counts[c] = 0;
     }
+    for (Eigen::Index i = 0; i < n; ++i) {  // raw rows: Eigen's row blocks cost more here
+      const int label = fit.labels[i];
+      if (!resum[label]) continue;
+      const double* x = points.row(i).data();
+      double* sum = sums.row(label).data();
+      for (Eigen::Index t = 0; t < dims; ++t) sum[t] += x[t];
+      ++counts[label];
+    }
+    std::fill(resum.begin(), resum.end(), 0);
     const bool any_empty = std::find(counts.begin(), counts.end(), 0) != counts.end();
     if (any_empty) {  // rare: the relocation rule needs every point's exact distance
       squared_distance.resize(n);
@@ -226,6 +236,7 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
     std::size_t changed = 0;
     if (any_empty) {  // relocated points' bounds refer to other centres: measure afresh
       measure_all(&changed);
+      std::fill(resum.begin(), resum.end(), 1);  // relocation edited the sums
     } else {
       int most_moved = 0;
       for (int c = 0; c < k; ++c) {
@@ -261,7 +272,10 @@ KMeansFit RunLloyd(const RowMatrix& points, RowMatrix centres, int max_iteration
         upper[i] = std::sqrt(own_squared);
         if (upper[i] < bound) continue;
         const NearestTwo found = FindNearestTwoNear(x, centres, label, own_squared, gap);
-        if (found.label != label) ++changed;
+        if (found.label != label) {
+          ++changed;
+          resum[label] = resum[found.label] = 1;
+        }
         fit.labels[i] = found.label;
         upper[i] = found.nearest;
         lower[i] = found.second;
