@@ -102,11 +102,32 @@ std::optional<PrefetchedFile> FilePrefetcher::Next() {
   }
   std::unique_lock lock(mutex_);
   if (handed_out_ == files_.size()) return std::nullopt;
-  // A file is always loaded by the worker that claimed it, and the workers only stop
-  // early when the prefetcher is being destroyed, so the file handed out next arrives.
-  changed_.wait(lock, [this] { return ready_.contains(handed_out_) || workers_running_ == 0; });
-  auto it = ready_.find(handed_out_);
-  if (it == ready_.end()) return std::nullopt;  // unreachable unless every worker stopped
+  // Rather than wait idle for the file due next, the caller loads one itself: that file
+  // when no worker has taken it up yet, else the next free one within the limit. When
+  // parsing is the slower stage, both cores then parse in the caller's idle time, with
+  // no thread more than there are cores. A file is always loaded by the thread that
+  // claimed it, and the workers only stop early when the prefetcher is being destroyed,
+  // so the file handed out next arrives.
+  while (!ready_.contains(handed_out_)) {
+    const bool free_file = claimed_ < files_.size() && claimed_ < handed_out_ + limit_;
+    if (free_file) {
+      const std::size_t index = claimed_++;
+      lock.unlock();
+      PrefetchedFile file = Load(files_[index]);
+      lock.lock();
+      if (index == handed_out_) {  // only this thread hands files out: it is still due
+        ++handed_out_;
+        lock.unlock();
+        changed_.notify_all();
+        return file;
+      }
+      ready_.emplace(index, std::move(file));
+      continue;  // the due file may have arrived meanwhile, its notice unheard
+    }
+    if (workers_running_ == 0) return std::nullopt;  // unreachable unless every worker stopped
+    changed_.wait(lock);
+  }
+  const auto it = ready_.find(handed_out_);
   PrefetchedFile file = std::move(it->second);
   ready_.erase(it);
   ++handed_out_;

@@ -9,8 +9,8 @@
 // on the number of workers. With `depth` 0 there is no thread at all: Next() reads and
 // parses on the caller's thread — the same work in the same order, only not overlapped.
 //
-// Memory: at most `depth` + `workers` files are taken up by the workers and not yet
-// handed out (being read or parsed, or waiting ready), plus the one the caller holds; a
+// Memory: at most `depth` + `workers` files are taken up (by the workers, or by the
+// caller while it waits) and not yet handed out (being read or parsed, or waiting ready), plus the one the caller holds; a
 // file's bytes are freed as soon as it is parsed. Nothing grows with the number of files.
 //
 // Ownership and threads: `fs` and `reader` must outlive the prefetcher. The workers call
@@ -72,8 +72,9 @@ class FilePrefetcher {
   FilePrefetcher(const FilePrefetcher&) = delete;
   FilePrefetcher& operator=(const FilePrefetcher&) = delete;
 
-  // The next file in list order, waiting for the worker when it is not ready yet;
-  // nullopt after the last one.
+  // The next file in list order; nullopt after the last one. When it is not ready yet,
+  // loads it (or, when a worker has it in hand, a later one) on the caller's thread
+  // rather than wait idle, and waits only when the limit leaves nothing to take up.
   std::optional<PrefetchedFile> Next();
 
  private:

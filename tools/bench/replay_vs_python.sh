@@ -9,6 +9,7 @@
 # d = 8 by derive_columns.py (three columns derived from each particle's own values);
 # k = 16, mini-batches of 1024, warm-up 20000 particles in both pipelines.
 # Peak resident memory of replay is measured at two sizes: all files and a quarter.
+# Usage with rounds: ROUNDS=5 tools/bench/replay_vs_python.sh ...
 #
 # Usage: tools/bench/replay_vs_python.sh BUILD_DIR WORK_DIR [FILES]   (FILES default 280)
 # BUILD_DIR must be configured with -DSESTON_BUILD_BENCHMARKS=ON and have sestond,
@@ -83,32 +84,52 @@ replay() {  # replay DIR [CONFIG]: a fresh output directory each time
   measure "$sestond" replay --config "${2:-$work/replay.yaml}" --quiet --summary "$work/summary.json" "$1"
 }
 
-measure "$read_lines" "${csv_files[@]}"
-read -r _ _ _ lines _ _ _ _ _ ceiling_seconds <"$work/stdout.txt"
-ceiling_rss=$rss
+# Each run is repeated ROUNDS times (default 3), the runs taken in turn so that a slow
+# spell on a shared machine falls on all of them alike; the table gives the median
+# (the lower middle for an even count) and, for the two pipelines, the fastest and
+# slowest run. Peak resident memory is the largest over the rounds.
+rounds=${ROUNDS:-3}
+declare -a ceil_s repl_s repl_cpu bare_s bare_cpu py_s py_total py_cpu quarter_s
+ceiling_rss=0 replay_rss=0 bare_rss=0 python_rss=0 quarter_rss=0
+max() { if (($1 > $2)); then echo "$1"; else echo "$2"; fi; }
+for ((round = 0; round < rounds; round++)); do
+  echo "round $((round + 1)) of $rounds ..." >&2
+  measure "$read_lines" "${csv_files[@]}"
+  read -r _ _ _ lines _ _ _ _ _ "ceil_s[round]" <"$work/stdout.txt"
+  ceiling_rss=$(max "$ceiling_rss" "$rss")
+
+  replay "$work/d8"
+  rows=$("$python" -c "import json,sys; print(json.load(open(sys.argv[1]))['particles']['read'])" "$work/summary.json")
+  repl_s[round]=$elapsed repl_cpu[round]=$cpu replay_rss=$(max "$replay_rss" "$rss")
+  replay "$work/d8" "$work/replay-no-drift.yaml"
+  bare_s[round]=$elapsed bare_cpu[round]=$cpu bare_rss=$(max "$bare_rss" "$rss")
+
+  measure "$python" "$here/python_pipeline.py" "$work/d8" 16 1024 20000
+  read -r _ python_rows _ "py_s[round]" _ <"$work/stdout.txt"
+  py_total[round]=$elapsed py_cpu[round]=$cpu python_rss=$(max "$python_rss" "$rss")
+
+  replay "$work/d8-quarter"
+  quarter_rows=$("$python" -c "import json,sys; print(json.load(open(sys.argv[1]))['particles']['read'])" "$work/summary.json")
+  quarter_s[round]=$elapsed quarter_rss=$(max "$quarter_rss" "$rss")
+done
 wc_start=$(date +%s.%N)
 cat "${csv_files[@]}" | wc -l >/dev/null
 wc_seconds=$(awk -v s="$wc_start" -v e="$(date +%s.%N)" 'BEGIN { printf "%.3f", e - s }')
 
-replay "$work/d8"
-rows=$("$python" -c "import json,sys; print(json.load(open(sys.argv[1]))['particles']['read'])" "$work/summary.json")
-replay_seconds=$elapsed replay_cpu=$cpu replay_rss=$rss
-replay "$work/d8" "$work/replay-no-drift.yaml"
-bare_seconds=$elapsed bare_cpu=$cpu bare_rss=$rss
-
-measure "$python" "$here/python_pipeline.py" "$work/d8" 16 1024 20000
-read -r _ python_rows _ python_seconds _ <"$work/stdout.txt"
-python_total=$elapsed python_cpu=$cpu python_rss=$rss
-
-replay "$work/d8-quarter"
-quarter_rows=$("$python" -c "import json,sys; print(json.load(open(sys.argv[1]))['particles']['read'])" "$work/summary.json")
-quarter_seconds=$elapsed quarter_rss=$rss
+median() { printf '%s\n' "$@" | sort -g | awk '{ v[NR] = $1 } END { print v[int((NR + 1) / 2)] }'; }
+spread() { printf '%s\n' "$@" | sort -g | awk '{ v[NR] = $1 } END { print v[1] "-" v[NR] }'; }
+ceiling_seconds=$(median "${ceil_s[@]}")
+replay_seconds=$(median "${repl_s[@]}") replay_cpu=$(median "${repl_cpu[@]}")
+bare_seconds=$(median "${bare_s[@]}") bare_cpu=$(median "${bare_cpu[@]}")
+python_seconds=$(median "${py_s[@]}") python_total=$(median "${py_total[@]}")
+python_cpu=$(median "${py_cpu[@]}") quarter_seconds=$(median "${quarter_s[@]}")
 
 rate() { awk -v n="$1" -v s="$2" 'BEGIN { printf "%.0f", n / s }'; }
 ratio() { awk -v a="$1" -v b="$2" 'BEGIN { printf "%.1f", a / b }'; }
 
 echo "machine: $(nproc) cores, $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ *//'),"\
      "$(awk '/MemTotal/ { printf "%.1f GiB", $2 / 1048576 }' /proc/meminfo), load $(cut -d' ' -f1-3 /proc/loadavg)"
+echo "rounds: $rounds; figures are medians"
 echo "data: ${#csv_files[@]} files, $rows particles ($python_rows in Python), $bytes bytes, $lines lines, d = 8, k = 16"
 printf '%-34s %10s %10s %14s %12s\n' "run" "wall s" "cpu s" "rows/s (wall)" "peak RSS MiB"
 printf '%-34s %10s %10s %14s %12s\n' "read and split (seston-read-lines)" "$ceiling_seconds" "-" \
@@ -123,6 +144,8 @@ printf '%-34s %10s %10s %14s %12s\n' "pandas + sklearn (in-script time)" "$pytho
 printf '%-34s %10s %10s %14s %12s\n' "sestond replay, quarter of files" "$quarter_seconds" "-" \
   "$(rate "$quarter_rows" "$quarter_seconds")" "$((quarter_rss / 1024))"
 echo "python process wall incl. imports: $python_total s"
+echo "wall s over the rounds: replay $(spread "${repl_s[@]}"), drift off $(spread "${bare_s[@]}")," \
+     "pandas + sklearn $(spread "${py_s[@]}")"
 echo "replay / python rows/s: $(ratio "$(rate "$rows" "$replay_seconds")" "$(rate "$python_rows" "$python_seconds")")x" \
      "(drift off: $(ratio "$(rate "$rows" "$bare_seconds")" "$(rate "$python_rows" "$python_seconds")")x)"
 echo "replay time / read-and-split time: $(ratio "$replay_seconds" "$ceiling_seconds")x" \
