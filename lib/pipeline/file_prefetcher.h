@@ -10,8 +10,9 @@
 // parses on the caller's thread — the same work in the same order, only not overlapped.
 //
 // Memory: at most `depth` + `workers` files are taken up (by the workers, or by the
-// caller while it waits) and not yet handed out (being read or parsed, or waiting ready), plus the one the caller holds; a
-// file's bytes are freed as soon as it is parsed. Nothing grows with the number of files.
+// caller while it waits) and not yet handed out (being read or parsed, or waiting
+// ready), plus the one the caller holds; a file's bytes are freed as soon as it is
+// parsed. Nothing grows with the number of files.
 //
 // Ownership and threads: `fs` and `reader` must outlive the prefetcher. The workers call
 // fs.ReadFile and reader.Parse (const, safe to run concurrently) while the caller may use
@@ -94,7 +95,7 @@ class FilePrefetcher {
 
   std::mutex mutex_;
   std::condition_variable changed_;              // a file was loaded or handed out, or the run ends
-  std::size_t claimed_ = 0;                      // files taken up by a worker
+  std::size_t claimed_ = 0;                      // files taken up by a worker or the caller
   std::size_t handed_out_ = 0;                   // files returned by Next()
   std::map<std::size_t, PrefetchedFile> ready_;  // loaded, by list index
   std::size_t workers_running_ = 0;
