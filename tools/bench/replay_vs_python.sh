@@ -9,9 +9,9 @@
 # d = 8 by derive_columns.py (three columns derived from each particle's own values);
 # k = 16, mini-batches of 1024, warm-up 20000 particles in both pipelines.
 # Peak resident memory of replay is measured at two sizes: all files and a quarter.
-# Usage with rounds: ROUNDS=5 tools/bench/replay_vs_python.sh ...
 #
 # Usage: tools/bench/replay_vs_python.sh BUILD_DIR WORK_DIR [FILES]   (FILES default 280)
+# ROUNDS=N in the environment repeats every run N times (default 3); see below.
 # BUILD_DIR must be configured with -DSESTON_BUILD_BENCHMARKS=ON and have sestond,
 # seston-sim and seston-read-lines built.
 set -euo pipefail
